@@ -1,0 +1,345 @@
+"""Tests of lamina.io: atomic netCDF files, the writable-path check and chunked, resumable runs.
+
+These test the bookkeeping (nothing lost, nothing computed twice, nothing half written), not
+the physics: results of a chunked run are compared with the same solver run in one piece.
+"""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pytest
+import xarray as xr
+
+from lamina import io
+
+
+def _solve_stand_in(atmosphere: xr.Dataset, sun_zenith: float = 30.0,
+                    sun_irradiance: float | xr.DataArray = 1.0,
+                    surface_albedo: float | xr.DataArray = 0.1, **_: object) -> xr.Dataset:
+    """A cheap stand-in with lamina.solve's output schema (direct beam plus a crude diffuse).
+
+    Used where a test checks bookkeeping only; the physics is irrelevant here.
+    """
+    tau = atmosphere["optical_depth"]
+    cumulative = xr.concat([xr.zeros_like(tau.isel(layer=0)), tau.cumsum("layer")],
+                           dim="layer").rename(layer="level")
+    cumulative = cumulative.assign_coords(level=np.arange(cumulative.sizes["level"]))
+    mu0 = np.cos(np.deg2rad(sun_zenith))
+    direct = sun_irradiance * mu0 * np.exp(-cumulative / mu0)
+    ssa = atmosphere["single_scattering_albedo"].mean("layer")
+    diffuse_down = 0.5 * ssa * (sun_irradiance * mu0 - direct)
+    up = surface_albedo * (direct + diffuse_down).isel(level=-1) * np.exp(
+        -(cumulative.isel(level=-1) - cumulative))
+    out = xr.Dataset(
+        {
+            "flux_up": up.transpose(*cumulative.dims),
+            "flux_down_direct": direct,
+            "flux_down_diffuse": diffuse_down,
+        },
+        coords={"cumulative_optical_depth": cumulative},
+    )
+    for name in out.data_vars:
+        out[name].attrs = {"units": "W m-2", "long_name": name.replace("_", " ")}
+    out.attrs = {"streams": 8, "delta_m": True}
+    return out
+
+
+def _atmosphere(n_wavelength: int = 10, n_layers: int = 4) -> xr.Dataset:
+    rng = np.random.default_rng(7)
+    wavelength = np.linspace(0.4, 1.0, n_wavelength)
+    tau = rng.uniform(0.01, 1.0, (n_wavelength, n_layers))
+    ssa = rng.uniform(0.5, 1.0, (n_wavelength, n_layers))
+    moments = np.broadcast_to(0.7 ** np.arange(8), (n_wavelength, n_layers, 8))
+    return xr.Dataset(
+        {
+            "optical_depth": (("wavelength", "layer"), tau),
+            "single_scattering_albedo": (("wavelength", "layer"), ssa),
+            "phase_moments": (("wavelength", "layer", "moment"), moments.copy()),
+        },
+        coords={"wavelength": ("wavelength", wavelength, {"units": "um"})},
+    )
+
+
+class Counter:
+    """Wraps a solver and counts the spectral points it is asked to compute."""
+
+    def __init__(self, solver, fail_on_call: int | None = None):
+        self.solver = solver
+        self.calls = 0
+        self.points: list[float] = []
+        self.fail_on_call = fail_on_call
+
+    def __call__(self, atmosphere, **kwargs):
+        self.calls += 1
+        if self.fail_on_call is not None and self.calls == self.fail_on_call:
+            raise KeyboardInterrupt("simulated kill")
+        self.points.extend(atmosphere["wavelength"].values.tolist())
+        return self.solver(atmosphere, **kwargs)
+
+
+# --------------------------------------------------------------------------------------------
+# write_netcdf
+# --------------------------------------------------------------------------------------------
+
+
+def test_netcdf_round_trip_with_attributes(tmp_path):
+    result = _solve_stand_in(_atmosphere())
+    path = io.write_netcdf(result, tmp_path / "out.nc", settings={"title": "round trip"})
+    with xr.open_dataset(path) as back:
+        back.load()
+    xr.testing.assert_allclose(back, result)
+    assert back.attrs["Conventions"] == "CF-1.10"
+    assert back.attrs["title"] == "round trip"
+    assert back.attrs["streams"] == 8
+    assert back.attrs["delta_m"] == 1  # netCDF has no booleans
+    import lamina
+
+    assert back.attrs["lamina_version"] == lamina.__version__
+    created = np.datetime64(back.attrs["date_created"].replace("+00:00", ""))
+    assert abs(created - np.datetime64("now")) < np.timedelta64(1, "h")
+    assert back.attrs["date_created"].endswith("+00:00")  # UTC, ISO 8601
+    for name in back.data_vars:
+        assert back[name].attrs["units"] == "W m-2"
+    assert back["wavelength"].attrs["units"] == "um"
+    assert [p.name for p in tmp_path.iterdir()] == ["out.nc"]
+
+
+def test_write_refuses_variables_without_units(tmp_path):
+    result = _solve_stand_in(_atmosphere())
+    del result["flux_up"].attrs["units"]
+    with pytest.raises(ValueError, match="variable 'flux_up' has no 'units' attribute"):
+        io.write_netcdf(result, tmp_path / "out.nc")
+    result = _solve_stand_in(_atmosphere())
+    del result["flux_down_direct"].attrs["long_name"]
+    with pytest.raises(ValueError, match="'flux_down_direct' has no 'long_name'"):
+        io.write_netcdf(result, tmp_path / "out.nc")
+    assert list(tmp_path.iterdir()) == []
+
+
+@pytest.mark.parametrize("existing", [False, True])
+def test_failed_write_leaves_no_half_file(tmp_path, monkeypatch, existing):
+    path = tmp_path / "out.nc"
+    if existing:
+        path.write_bytes(b"previous complete result")
+    original = xr.Dataset.to_netcdf
+
+    def half_then_fail(self, target, *args, **kwargs):
+        original(self, target, *args, **kwargs)  # a file really lands on disk ...
+        with open(target, "r+b") as handle:  # ... and is then cut short, as by a full disk
+            handle.truncate(100)
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(xr.Dataset, "to_netcdf", half_then_fail)
+    with pytest.raises(OSError, match="No space left"):
+        io.write_netcdf(_solve_stand_in(_atmosphere()), path)
+    if existing:
+        assert [p.name for p in tmp_path.iterdir()] == ["out.nc"]
+        assert path.read_bytes() == b"previous complete result"
+    else:
+        assert list(tmp_path.iterdir()) == []
+
+
+def test_interrupted_write_leaves_no_half_file(tmp_path, monkeypatch):
+    def interrupted(self, target, *args, **kwargs):
+        with open(target, "wb") as handle:
+            handle.write(b"CDF\x01 partial")
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(xr.Dataset, "to_netcdf", interrupted)
+    with pytest.raises(KeyboardInterrupt):
+        io.write_netcdf(_solve_stand_in(_atmosphere()), tmp_path / "out.nc")
+    assert list(tmp_path.iterdir()) == []
+
+
+# --------------------------------------------------------------------------------------------
+# check_writable
+# --------------------------------------------------------------------------------------------
+
+
+def test_check_writable_accepts_a_new_file(tmp_path):
+    assert io.check_writable(tmp_path / "new.nc") == tmp_path / "new.nc"
+    assert list(tmp_path.iterdir()) == []  # the probe leaves nothing behind
+
+
+def test_check_writable_missing_folder(tmp_path):
+    with pytest.raises(ValueError, match=r"cannot write .*nowhere/out.nc: its folder .*nowhere "
+                                         "does not exist"):
+        io.check_writable(tmp_path / "nowhere" / "out.nc")
+
+
+def test_check_writable_parent_is_a_file(tmp_path):
+    (tmp_path / "file").write_text("x")
+    with pytest.raises(ValueError, match=r"file/out.nc: .*file is not a folder"):
+        io.check_writable(tmp_path / "file" / "out.nc")
+
+
+def test_check_writable_target_is_a_folder(tmp_path):
+    with pytest.raises(ValueError, match="it is a folder; expected a file name"):
+        io.check_writable(tmp_path)
+
+
+def test_check_writable_unwritable_folder(tmp_path, monkeypatch):
+    def refuse(*args, **kwargs):
+        raise PermissionError(13, "Permission denied")
+
+    # chmod does not stop root (who runs CI here), so refuse the probe file instead
+    monkeypatch.setattr(io.tempfile, "TemporaryFile", refuse)
+    with pytest.raises(ValueError, match="is not writable \\(Permission denied\\)"):
+        io.check_writable(tmp_path / "out.nc")
+
+
+def test_run_chunked_checks_the_path_before_computing(tmp_path):
+    counter = Counter(_solve_stand_in)
+    with pytest.raises(ValueError, match="does not exist"):
+        io.run_chunked(_atmosphere(), {}, tmp_path / "missing" / "out.nc", 3, solver=counter)
+    assert counter.calls == 0
+
+
+# --------------------------------------------------------------------------------------------
+# run_chunked
+# --------------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("chunk_size", [1, 3, 10, 25, None])
+def test_chunked_run_equals_unchunked(tmp_path, chunk_size):
+    atmosphere = _atmosphere()
+    kwargs = {"sun_zenith": 40.0, "surface_albedo": xr.DataArray(
+        np.linspace(0.0, 0.5, 10), dims=["wavelength"])}
+    expected = _solve_stand_in(atmosphere, **kwargs)
+    counter = Counter(_solve_stand_in)
+    path = tmp_path / "out.nc"
+    result = io.run_chunked(atmosphere, kwargs, path, chunk_size, progress=False,
+                            solver=counter)
+    xr.testing.assert_allclose(result, expected)
+    with xr.open_dataset(path) as back:
+        xr.testing.assert_allclose(back.load(), expected)
+    assert counter.calls == (1 if chunk_size is None else -(-10 // chunk_size))
+    assert sorted(counter.points) == sorted(atmosphere["wavelength"].values.tolist())
+    assert [p.name for p in tmp_path.iterdir()] == ["out.nc"]  # the parts are gone
+
+
+def test_resume_after_a_kill_computes_nothing_twice(tmp_path):
+    atmosphere = _atmosphere(n_wavelength=11)
+    kwargs = {"sun_zenith": 20.0}
+    expected = _solve_stand_in(atmosphere, **kwargs)
+    path = tmp_path / "out.nc"
+    killed = Counter(_solve_stand_in, fail_on_call=3)
+    with pytest.raises(KeyboardInterrupt):
+        io.run_chunked(atmosphere, kwargs, path, 3, progress=False, solver=killed)
+    parts = io.parts_folder(path)
+    assert sorted(p.name for p in parts.iterdir()) == [
+        "manifest.json", "part-00000.nc", "part-00001.nc"]
+    assert not path.exists()
+    manifest = json.loads((parts / "manifest.json").read_text())
+    assert manifest["chunks"] == 4 and manifest["chunk_size"] == 3
+
+    # without resume, the unfinished run is not silently overwritten or mixed in
+    with pytest.raises(ValueError, match="holds an unfinished earlier run; pass resume=True"):
+        io.run_chunked(atmosphere, kwargs, path, 3, progress=False, solver=killed)
+
+    resumed = Counter(_solve_stand_in)
+    result = io.run_chunked(atmosphere, kwargs, path, 3, resume=True, progress=False,
+                            solver=resumed)
+    xr.testing.assert_allclose(result, expected)
+    assert resumed.calls == 2  # chunks 2 and 3 only
+    computed = killed.points + resumed.points
+    assert sorted(computed) == sorted(atmosphere["wavelength"].values.tolist())
+    assert len(set(computed)) == len(computed)  # no wavelength computed twice
+    assert not parts.exists()
+
+
+def test_resume_with_different_inputs_is_refused(tmp_path):
+    atmosphere = _atmosphere()
+    path = tmp_path / "out.nc"
+    with pytest.raises(KeyboardInterrupt):
+        io.run_chunked(atmosphere, {"sun_zenith": 20.0}, path, 3, progress=False,
+                       solver=Counter(_solve_stand_in, fail_on_call=2))
+    changed = atmosphere.copy(deep=True)
+    changed["optical_depth"][0, 0] += 1e-9
+    with pytest.raises(ValueError, match="refusing to resume .*out.nc.parts: the inputs "
+                                         r"\(atmosphere, solver options"):
+        io.run_chunked(changed, {"sun_zenith": 20.0}, path, 3, resume=True, progress=False,
+                       solver=_solve_stand_in)
+    with pytest.raises(ValueError, match="refusing to resume .*: the inputs"):
+        io.run_chunked(atmosphere, {"sun_zenith": 21.0}, path, 3, resume=True,
+                       progress=False, solver=_solve_stand_in)
+    with pytest.raises(ValueError, match="refusing to resume .*: the chunk size differs"):
+        io.run_chunked(atmosphere, {"sun_zenith": 20.0}, path, 4, resume=True,
+                       progress=False, solver=_solve_stand_in)
+    # the unchanged run still resumes
+    result = io.run_chunked(atmosphere, {"sun_zenith": 20.0}, path, 3, resume=True,
+                            progress=False, solver=_solve_stand_in)
+    xr.testing.assert_allclose(result, _solve_stand_in(atmosphere, sun_zenith=20.0))
+
+
+def test_resume_after_kill_between_final_write_and_cleanup(tmp_path, monkeypatch):
+    atmosphere = _atmosphere()
+    path = tmp_path / "out.nc"
+
+    def killed_cleanup(folder):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(io.shutil, "rmtree", killed_cleanup)
+    first = Counter(_solve_stand_in)
+    with pytest.raises(KeyboardInterrupt):
+        io.run_chunked(atmosphere, {}, path, 4, progress=False, solver=first)
+    monkeypatch.undo()
+    again = Counter(_solve_stand_in)
+    result = io.run_chunked(atmosphere, {}, path, 4, resume=True, progress=False, solver=again)
+    assert again.calls == 0
+    xr.testing.assert_allclose(result, _solve_stand_in(atmosphere))
+
+
+def test_run_chunked_without_spectral_dim(tmp_path):
+    atmosphere = _atmosphere().isel(wavelength=0, drop=True)
+    result = io.run_chunked(atmosphere, {}, tmp_path / "one.nc", 2, progress=False,
+                            solver=_solve_stand_in)
+    xr.testing.assert_allclose(result, _solve_stand_in(atmosphere))
+
+
+def test_run_chunked_keeps_requested_variables_and_attributes(tmp_path):
+    result = io.run_chunked(_atmosphere(), {}, tmp_path / "v.nc", 4, progress=False,
+                            variables=["flux_up"], attributes={"title": "subset"},
+                            solver=_solve_stand_in)
+    assert list(result.data_vars) == ["flux_up"]
+    assert result.attrs["title"] == "subset"
+    assert result.attrs["Conventions"] == "CF-1.10"
+
+
+def test_run_chunked_rejects_bad_arguments(tmp_path):
+    with pytest.raises(ValueError, match="chunk_size must be a positive integer; got 0"):
+        io.run_chunked(_atmosphere(), {}, tmp_path / "x.nc", 0, solver=_solve_stand_in)
+    with pytest.raises(ValueError, match="dim must be a dim of the atmosphere"):
+        io.run_chunked(_atmosphere(), {}, tmp_path / "x.nc", 2, dim="time",
+                       solver=_solve_stand_in)
+
+
+def test_progress_bar_draws_only_when_asked(tmp_path, capsys):
+    io.run_chunked(_atmosphere(), {}, tmp_path / "quiet.nc", 5, progress=True,
+                   solver=_solve_stand_in)
+    assert capsys.readouterr().err == ""  # stderr is not a terminal under pytest
+
+    from lamina.progress import ProgressBar
+
+    class Terminal:
+        def __init__(self):
+            self.text = ""
+
+        def write(self, text):
+            self.text += text
+
+        def flush(self):
+            pass
+
+        def isatty(self):
+            return True
+
+    terminal = Terminal()
+    with ProgressBar(4, "chunks", stream=terminal) as bar:
+        bar.advance(2)
+        assert "chunks 2/4" in terminal.text and " 50 %" in terminal.text
+        bar.advance(2)
+    assert terminal.text.endswith("\n") and "4/4" in terminal.text
+    assert terminal.text.count("\n") == 1  # one line, redrawn in place
