@@ -1,0 +1,79 @@
+"""Input checks shared by the public functions.
+
+Every check names the argument, states the rule and shows the first offending value with
+its index, so that a message reads like "single_scattering_albedo must lie in [0, 1];
+layer 3 has 1.2".
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import numpy as np
+
+
+def as_float_array(value: object, name: str) -> np.ndarray:
+    """Coerce to a C-contiguous float64 array, refusing non-numeric input."""
+    if isinstance(value, str | bytes):
+        raise TypeError(f"{name} must be numeric; got the string {value!r}")
+    try:
+        array = np.asarray(value, dtype=np.float64)
+    except (TypeError, ValueError) as error:
+        raise TypeError(f"{name} must be numeric; got {type(value).__name__}") from error
+    # np.ascontiguousarray would turn a 0-d array into a 1-d one
+    return np.require(array, requirements="C")
+
+
+def _where(index: tuple[int, ...], labels: Sequence[str] | None) -> str:
+    if not index:
+        return "the value"
+    if labels is None:
+        return f"index {tuple(int(i) for i in index)}"
+    parts = [f"{label} {int(i)}" for label, i in zip(labels, index, strict=False)]
+    return ", ".join(parts)
+
+
+def first_bad(mask: np.ndarray) -> tuple[int, ...] | None:
+    """Index of the first True entry of ``mask``, or None."""
+    if not np.any(mask):
+        return None
+    return tuple(int(i) for i in np.argwhere(mask)[0])
+
+
+def require_finite(array: np.ndarray, name: str, labels: Sequence[str] | None = None) -> None:
+    bad = first_bad(~np.isfinite(array))
+    if bad is not None:
+        raise ValueError(
+            f"{name} must be finite; {_where(bad, labels)} has {array[bad] if bad else array}"
+        )
+
+
+def require_range(
+    array: np.ndarray,
+    name: str,
+    low: float | None = None,
+    high: float | None = None,
+    *,
+    low_open: bool = False,
+    high_open: bool = False,
+    labels: Sequence[str] | None = None,
+) -> None:
+    """Values must be finite and lie in the stated interval."""
+    array = np.asarray(array)
+    require_finite(array, name, labels)
+    bad_mask = np.zeros(array.shape, dtype=bool)
+    if low is not None:
+        bad_mask |= (array <= low) if low_open else (array < low)
+    if high is not None:
+        bad_mask |= (array >= high) if high_open else (array > high)
+    bad = first_bad(bad_mask)
+    if bad is not None:
+        left = "(" if low_open else "["
+        right = ")" if high_open else "]"
+        low_text = "-inf" if low is None else f"{low:g}"
+        high_text = "inf" if high is None else f"{high:g}"
+        value = array[bad] if bad else array
+        raise ValueError(
+            f"{name} must lie in {left}{low_text}, {high_text}{right}; "
+            f"{_where(bad, labels)} has {float(value):g}"
+        )

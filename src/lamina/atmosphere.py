@@ -1,0 +1,232 @@
+"""Build and check the input Dataset that describes a stack of plane-parallel layers.
+
+Layers are numbered from the top; levels are the ``layer + 1`` boundaries, top first. Any
+dims besides ``layer``, ``level`` and ``moment`` (``wavelength``, ``column``, ``time``, ...)
+broadcast through :func:`lamina.solve` and are carried to every output.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import numpy as np
+import xarray as xr
+
+from lamina._checks import as_float_array, first_bad, require_range
+
+ArrayLike = object
+
+#: Tolerance on chi_0 = 1 and |chi_l| <= 1 (round-off in moments computed elsewhere).
+MOMENT_TOLERANCE = 1e-6
+
+_ATTRS = {
+    "optical_depth": {
+        "units": "1",
+        "long_name": "optical thickness of the layer",
+    },
+    "single_scattering_albedo": {
+        "units": "1",
+        "long_name": "single-scattering albedo of the layer",
+        "standard_name": "single_scattering_albedo_in_air_due_to_ambient_aerosol_particles",
+    },
+    "phase_moments": {
+        "units": "1",
+        "long_name": "Legendre coefficients chi_l of the phase function, "
+        "P(cos T) = sum_l (2l+1) chi_l P_l(cos T)",
+    },
+    "temperature": {"units": "K", "long_name": "temperature at the level",
+                    "standard_name": "air_temperature"},
+    "pressure": {"units": "Pa", "long_name": "pressure at the level",
+                 "standard_name": "air_pressure"},
+    "altitude": {"units": "m", "long_name": "altitude of the level", "standard_name": "altitude"},
+}
+# the CF name above is for aerosol; a generic single-scattering albedo has none
+del _ATTRS["single_scattering_albedo"]["standard_name"]
+
+
+def _as_dataarray(
+    value: ArrayLike, name: str, core: Sequence[str], extra_dims: Sequence[str] | None
+) -> xr.DataArray:
+    """Label an array: the trailing axes are ``core``, leading ones ``extra_dims``."""
+    if isinstance(value, xr.DataArray):
+        missing = [dim for dim in core if dim not in value.dims]
+        if missing:
+            raise ValueError(
+                f"{name} must have the dims {tuple(core)}; it has {value.dims} "
+                f"(missing {tuple(missing)})"
+            )
+        data = value.astype(np.float64)
+        return data.transpose(..., *core)
+    array = as_float_array(value, name)
+    if array.ndim < len(core):
+        raise ValueError(
+            f"{name} must have at least {len(core)} dimension(s) {tuple(core)}; "
+            f"got shape {array.shape}"
+        )
+    leading = array.ndim - len(core)
+    if extra_dims is None:
+        names = ["column"] if leading == 1 else [f"dim_{i}" for i in range(leading)]
+    else:
+        names = list(extra_dims)[-leading:] if leading else []
+        if len(names) != leading:
+            raise ValueError(
+                f"extra_dims names {len(tuple(extra_dims))} dims but {name} has {leading} "
+                "leading dims"
+            )
+    return xr.DataArray(array, dims=(*names, *core))
+
+
+def make_atmosphere(
+    optical_depth: ArrayLike,
+    single_scattering_albedo: ArrayLike,
+    phase_moments: ArrayLike,
+    temperature: ArrayLike | None = None,
+    *,
+    pressure: ArrayLike | None = None,
+    altitude: ArrayLike | None = None,
+    extra_dims: Sequence[str] | None = None,
+) -> xr.Dataset:
+    """Build the input Dataset of a layered atmosphere.
+
+    Parameters
+    ----------
+    optical_depth : array_like or DataArray, (..., layer)
+        Optical thickness of each layer, >= 0, top layer first.
+    single_scattering_albedo : array_like or DataArray, (..., layer)
+        In [0, 1].
+    phase_moments : array_like or DataArray, (..., layer, moment) or (moment,)
+        Legendre coefficients chi_l with chi_0 = 1 and |chi_l| <= 1; a single (moment,)
+        vector applies to every layer. Any length: the solver uses the terms it needs and
+        the single-scattering correction uses them all.
+    temperature : array_like or DataArray, (..., level), optional
+        Level temperatures in K (layer + 1 values, top first), for thermal emission.
+    pressure, altitude : array_like, (level,), optional
+        Level pressures in Pa (increasing downward) and altitudes in m; pressures give
+        heating rates.
+    extra_dims : sequence of str, optional
+        Names of the leading dims of plain arrays, e.g. ``("wavelength",)``.
+
+    Returns
+    -------
+    xarray.Dataset
+        Variables ``optical_depth``, ``single_scattering_albedo``, ``phase_moments`` and the
+        optional level variables, with ``units`` and ``long_name`` attributes.
+
+    Examples
+    --------
+    >>> import lamina
+    >>> atm = lamina.make_atmosphere([0.1, 2.0], [1.0, 0.9], lamina.phase.rayleigh())
+    >>> dict(atm.sizes)
+    {'layer': 2, 'moment': 3}
+    """
+    tau = _as_dataarray(optical_depth, "optical_depth", ["layer"], extra_dims)
+    albedo = _as_dataarray(single_scattering_albedo, "single_scattering_albedo", ["layer"],
+                           extra_dims)
+    if isinstance(phase_moments, xr.DataArray) and "layer" not in phase_moments.dims:
+        moments = _as_dataarray(phase_moments, "phase_moments", ["moment"], extra_dims)
+    elif not isinstance(phase_moments, xr.DataArray) and np.ndim(phase_moments) == 1:
+        moments = _as_dataarray(phase_moments, "phase_moments", ["moment"], None)
+    else:
+        moments = _as_dataarray(phase_moments, "phase_moments", ["layer", "moment"],
+                                extra_dims)
+    nlayer = tau.sizes["layer"]
+    for name, array in (("single_scattering_albedo", albedo), ("phase_moments", moments)):
+        if "layer" in array.dims and array.sizes["layer"] != nlayer:
+            raise ValueError(
+                f"{name} has {array.sizes['layer']} layers but optical_depth has {nlayer}"
+            )
+    if "layer" not in moments.dims:
+        moments = moments.expand_dims(layer=nlayer).transpose(..., "layer", "moment")
+    data = {"optical_depth": tau, "single_scattering_albedo": albedo, "phase_moments": moments}
+    if temperature is not None:
+        data["temperature"] = _as_dataarray(temperature, "temperature", ["level"], extra_dims)
+    for name, value in (("pressure", pressure), ("altitude", altitude)):
+        if value is not None:
+            data[name] = _as_dataarray(value, name, ["level"], None)
+    try:
+        ds = xr.Dataset(data)
+    except ValueError as error:
+        raise ValueError(f"the atmosphere's arrays have conflicting dims: {error}") from error
+    ds = ds.assign_coords(layer=np.arange(nlayer), level=np.arange(nlayer + 1),
+                          moment=np.arange(ds.sizes["moment"]))
+    for name in ds.data_vars:
+        ds[name].attrs.update(_ATTRS[name])
+    ds.attrs["title"] = "lamina atmosphere: layers numbered from the top"
+    check_atmosphere(ds)
+    return ds
+
+
+def _labels(array: xr.DataArray) -> list[str]:
+    return [str(dim) for dim in array.dims]
+
+
+def check_atmosphere(ds: xr.Dataset) -> None:
+    """Check an atmosphere Dataset; raise ValueError naming the variable and the rule.
+
+    Dask-backed variables are checked after computing them (the checks need the values).
+    """
+    if not isinstance(ds, xr.Dataset):
+        raise TypeError(f"atmosphere must be an xarray.Dataset; got {type(ds).__name__}")
+    for name, dims in (
+        ("optical_depth", ("layer",)),
+        ("single_scattering_albedo", ("layer",)),
+        ("phase_moments", ("layer", "moment")),
+    ):
+        if name not in ds:
+            raise ValueError(f"atmosphere lacks the variable {name!r} (dims {dims})")
+        missing = [dim for dim in dims if dim not in ds[name].dims]
+        if missing:
+            raise ValueError(f"atmosphere variable {name} must have dims {dims}; "
+                             f"it has {ds[name].dims}")
+    if ds.sizes["layer"] < 1:
+        raise ValueError("atmosphere must have at least one layer")
+    nlevel = ds.sizes["layer"] + 1
+    for name in ("temperature", "pressure", "altitude"):
+        if name in ds:
+            if "level" not in ds[name].dims:
+                raise ValueError(f"atmosphere variable {name} must have the dim 'level'")
+            if ds[name].sizes["level"] != nlevel:
+                raise ValueError(
+                    f"{name} must have one value per level (layers + 1 = {nlevel}); "
+                    f"got {ds[name].sizes['level']}"
+                )
+    tau = ds["optical_depth"]
+    require_range(np.asarray(tau.values), "optical_depth", 0.0, labels=_labels(tau))
+    albedo = ds["single_scattering_albedo"]
+    require_range(np.asarray(albedo.values), "single_scattering_albedo", 0.0, 1.0,
+                  labels=_labels(albedo))
+    moments = ds["phase_moments"]
+    values = np.asarray(moments.transpose(..., "moment").values)
+    labels = _labels(moments.transpose(..., "moment"))
+    require_range(values, "phase_moments", labels=labels)
+    if values.shape[-1] < 1:
+        raise ValueError("phase_moments must have at least one moment (chi_0 = 1)")
+    bad = first_bad(np.abs(values[..., 0] - 1.0) > MOMENT_TOLERANCE)
+    if bad is not None:
+        where = ", ".join(f"{label} {i}" for label, i in zip(labels[:-1], bad, strict=False))
+        raise ValueError(
+            f"phase_moments must start with chi_0 = 1; {where or 'the phase function'} has "
+            f"chi_0 = {values[..., 0][bad]:g}"
+        )
+    bad = first_bad(np.abs(values) > 1.0 + MOMENT_TOLERANCE)
+    if bad is not None:
+        where = ", ".join(f"{label} {i}" for label, i in zip(labels, bad, strict=False))
+        raise ValueError(f"phase_moments must satisfy |chi_l| <= 1; {where} has "
+                         f"{values[bad]:g}")
+    if "temperature" in ds:
+        temp = ds["temperature"]
+        require_range(np.asarray(temp.values), "temperature", 0.0, labels=_labels(temp))
+    if "pressure" in ds:
+        pressure = np.asarray(ds["pressure"].values)
+        require_range(pressure, "pressure", 0.0, labels=_labels(ds["pressure"]))
+        steps = np.diff(pressure, axis=-1)
+        bad = first_bad(steps <= 0)
+        if bad is not None:
+            raise ValueError(
+                "pressure must increase downward (levels are numbered from the top); "
+                f"level {bad[-1] + 1} has {pressure[..., bad[-1] + 1].ravel()[0]:g} Pa after "
+                f"{pressure[..., bad[-1]].ravel()[0]:g} Pa"
+            )
+    if "altitude" in ds:
+        require_range(np.asarray(ds["altitude"].values), "altitude",
+                      labels=_labels(ds["altitude"]))

@@ -1,0 +1,620 @@
+"""The labelled front of the solver: options, broadcasting, dask, the output Dataset.
+
+:func:`solve` checks everything, maps the atmosphere's extra dims (``wavelength``,
+``column``, ...) through :func:`xarray.apply_ufunc` so that a dask-backed atmosphere gives a
+lazy result, and hands each block of columns to the Cython kernel in one call. Delta-M
+scaling (Wiscombe 1977) and the exact single-scattering correction of radiances (Nakajima
+and Tanaka 1988) are applied here on whole arrays; the kernel sees scaled layers only.
+"""
+
+from __future__ import annotations
+
+import datetime as _datetime
+from collections.abc import Sequence
+from typing import Any
+
+import numpy as np
+import xarray as xr
+
+from lamina import _kernel, phase, planck
+from lamina._checks import as_float_array, require_range
+from lamina.atmosphere import check_atmosphere
+from lamina.quadrature import double_gauss
+
+#: Cosine used for a view zenith of exactly 90 degrees (the limit mu -> 0 is taken there).
+GRAZING_COSINE = 1e-9
+
+#: Earth-air defaults for heating rates: standard gravity (CODATA / ISO 80000) and the
+#: specific heat of dry air at constant pressure near 300 K (common practice).
+EARTH_GRAVITY = 9.80665
+DRY_AIR_HEAT_CAPACITY = 1004.0
+
+SECONDS_PER_DAY = 86400.0
+
+_SUN = "_sun"
+_POSITION = "_position"
+
+
+class SolverError(RuntimeError):
+    """The kernel could not solve a column (a LAPACK failure or a non-finite result)."""
+
+
+def _option_array(value: object, name: str) -> xr.DataArray:
+    """A scalar or DataArray option as a DataArray (0-d for scalars)."""
+    if isinstance(value, xr.DataArray):
+        return value.astype(np.float64)
+    array = as_float_array(value, name)
+    if array.ndim != 0:
+        raise ValueError(
+            f"{name} must be a scalar or an xarray.DataArray along the atmosphere's extra "
+            f"dims; got an array of shape {array.shape}"
+        )
+    return xr.DataArray(array)
+
+
+def _check_option_values(array: xr.DataArray, name: str, **bounds: Any) -> None:
+    if array.chunks is None:
+        require_range(np.asarray(array.values), name, labels=[str(d) for d in array.dims],
+                      **bounds)
+
+
+def _sun_geometry(sun_zenith: object) -> tuple[xr.DataArray, bool]:
+    """Sun zenith as a DataArray with the internal sun dim; True if the user gave a list."""
+    if isinstance(sun_zenith, xr.DataArray):
+        zenith = sun_zenith.astype(np.float64)
+        if "sun_zenith" in zenith.dims:
+            zenith = zenith.rename({"sun_zenith": _SUN}).drop_vars(_SUN, errors="ignore")
+            return zenith, True
+        return zenith.expand_dims({_SUN: 1}), False
+    array = as_float_array(sun_zenith, "sun_zenith")
+    if array.ndim == 0:
+        return xr.DataArray(array[None], dims=(_SUN,)), False
+    if array.ndim == 1 and array.size >= 1:
+        return xr.DataArray(array, dims=(_SUN,)), True
+    raise ValueError(f"sun_zenith must be a scalar, a 1-D list or a DataArray; got shape "
+                     f"{array.shape}")
+
+
+def _view_angles(view_zenith: object, view_azimuth: object) -> tuple[np.ndarray, np.ndarray]:
+    if view_zenith is None and view_azimuth is None:
+        return np.zeros(0), np.zeros(0)
+    if view_zenith is None or view_azimuth is None:
+        raise ValueError("view_zenith and view_azimuth must be given together (or neither, "
+                         "for fluxes only)")
+    zenith = np.atleast_1d(as_float_array(view_zenith, "view_zenith"))
+    azimuth = np.atleast_1d(as_float_array(view_azimuth, "view_azimuth"))
+    if zenith.ndim != 1 or azimuth.ndim != 1 or zenith.size == 0 or azimuth.size == 0:
+        raise ValueError("view_zenith and view_azimuth must be non-empty 1-D lists of degrees")
+    require_range(zenith, "view_zenith", 0.0, 90.0, labels=["view angle"])
+    require_range(azimuth, "view_azimuth", labels=["view angle"])
+    if np.unique(zenith).size != zenith.size:
+        raise ValueError("view_zenith must not repeat a value")
+    if np.unique(azimuth).size != azimuth.size:
+        raise ValueError("view_azimuth must not repeat a value")
+    return zenith, azimuth
+
+
+def _positions(output_levels: object, nlayer: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Layer index and fraction of each output position (fractional level numbers)."""
+    if output_levels is None:
+        levels = np.arange(nlayer + 1, dtype=np.float64)
+    else:
+        levels = np.atleast_1d(as_float_array(output_levels, "output_levels"))
+        if levels.ndim != 1 or levels.size == 0:
+            raise ValueError("output_levels must be a non-empty 1-D list of fractional level "
+                             "numbers")
+        require_range(levels, "output_levels", 0.0, float(nlayer), labels=["position"])
+    layer = np.minimum(np.floor(levels), nlayer - 1).astype(np.intp)
+    fraction = levels - layer
+    return levels, np.ascontiguousarray(layer), np.ascontiguousarray(fraction)
+
+
+def _planck_sources(
+    atmosphere: xr.Dataset,
+    wavenumber_band: object,
+    wavenumber: object,
+    surface_temperature: object,
+) -> tuple[xr.DataArray, xr.DataArray, str | None]:
+    """Planck radiance at the levels and at the surface, or zeros without thermal emission."""
+    thermal = wavenumber_band is not None or wavenumber is not None
+    if not thermal:
+        if surface_temperature is not None:
+            raise ValueError("surface_temperature needs a thermal source: give wavenumber_band "
+                             "or wavenumber")
+        return xr.DataArray(np.zeros(atmosphere.sizes["layer"] + 1), dims=("level",)), \
+            xr.DataArray(0.0), None
+    if wavenumber_band is not None and wavenumber is not None:
+        raise ValueError("give either wavenumber_band (band-integrated) or wavenumber "
+                         "(monochromatic), not both")
+    if "temperature" not in atmosphere:
+        raise ValueError("thermal emission (wavenumber_band or wavenumber) needs level "
+                         "temperatures: pass temperature= to make_atmosphere")
+    temperature = atmosphere["temperature"]
+    if surface_temperature is None:
+        surface = temperature.isel(level=-1, drop=True)
+    else:
+        surface = _option_array(surface_temperature, "surface_temperature")
+        _check_option_values(surface, "surface_temperature", low=0.0)
+    if wavenumber_band is not None:
+        band = as_float_array(wavenumber_band, "wavenumber_band")
+        if band.shape != (2,):
+            raise ValueError("wavenumber_band must be a pair (low, high) in cm-1; got "
+                             f"shape {band.shape}")
+        low, high = float(band[0]), float(band[1])
+        if not (np.isfinite(low) and low >= 0.0 and high > low):
+            raise ValueError(
+                f"wavenumber_band must satisfy 0 <= low < high (cm-1); got ({low:g}, {high:g})"
+            )
+
+        def function(t):
+            return planck.band_radiance(t, low, high)
+
+        units = "W m-2 sr-1"
+    else:
+        nu = float(as_float_array(wavenumber, "wavenumber"))
+        if not (np.isfinite(nu) and nu > 0.0):
+            raise ValueError(f"wavenumber must be positive and finite (cm-1); got {nu:g}")
+
+        def function(t):
+            return planck.spectral_radiance_wavenumber(t, nu)
+
+        units = "W m-2 sr-1 cm"
+    levels = xr.apply_ufunc(function, temperature, dask="parallelized",
+                            output_dtypes=[np.float64])
+    bottom = xr.apply_ufunc(function, surface, dask="parallelized", output_dtypes=[np.float64])
+    return levels, bottom, units
+
+
+def _block(
+    tau: np.ndarray,
+    albedo: np.ndarray,
+    moments: np.ndarray,
+    sun_zenith: np.ndarray,
+    irradiance: np.ndarray,
+    surface_albedo: np.ndarray,
+    planck_levels: np.ndarray,
+    planck_surface: np.ndarray,
+    top_radiance: np.ndarray,
+    *,
+    settings: dict,
+) -> tuple[np.ndarray, ...]:
+    """Solve one block of columns (numpy in, numpy out); leading axes are columns."""
+    lead = np.broadcast_shapes(
+        tau.shape[:-1], albedo.shape[:-1], moments.shape[:-2], sun_zenith.shape[:-1],
+        irradiance.shape[:-1], surface_albedo.shape, planck_levels.shape[:-1],
+        planck_surface.shape, top_radiance.shape,
+    )
+    nlayer = tau.shape[-1]
+    nsun = sun_zenith.shape[-1]
+    nmom = moments.shape[-1]
+    ncol = int(np.prod(lead, dtype=np.int64))
+    tau = np.broadcast_to(tau, (*lead, nlayer)).reshape(ncol, nlayer)
+    albedo = np.broadcast_to(albedo, (*lead, nlayer)).reshape(ncol, nlayer)
+    moments = np.broadcast_to(moments, (*lead, nlayer, nmom)).reshape(ncol, nlayer, nmom)
+    zenith = np.broadcast_to(sun_zenith, (*lead, nsun)).reshape(ncol, nsun)
+    irradiance = np.broadcast_to(irradiance, (*lead, nsun)).reshape(ncol, nsun)
+    surface_albedo = np.broadcast_to(surface_albedo, lead).reshape(ncol)
+    planck_levels = np.broadcast_to(planck_levels, (*lead, nlayer + 1)).reshape(ncol, -1)
+    planck_surface = np.broadcast_to(planck_surface, lead).reshape(ncol)
+    top_radiance = np.broadcast_to(top_radiance, lead).reshape(ncol)
+    # values of lazily given inputs are checked here, chunk by chunk
+    require_range(tau, "optical_depth", 0.0)
+    require_range(albedo, "single_scattering_albedo", 0.0, 1.0)
+    require_range(zenith, "sun_zenith", 0.0, 90.0, high_open=True)
+    require_range(irradiance, "sun_irradiance", 0.0)
+    require_range(surface_albedo, "surface_albedo", 0.0, 1.0)
+    require_range(planck_levels, "temperature (as Planck radiance)", 0.0)
+    require_range(top_radiance, "top_diffuse_radiance", 0.0)
+
+    streams = settings["streams"]
+    n = streams // 2
+    mu, weights = double_gauss(streams)
+    if settings["delta_m"]:
+        scaled = phase.delta_m_scale(tau, albedo, moments, streams)
+        tau_s = np.ascontiguousarray(scaled.scaled_optical_depth, dtype=np.float64)
+        albedo_s = np.ascontiguousarray(scaled.scaled_single_scattering_albedo)
+        moments_s = np.ascontiguousarray(scaled.scaled_phase_moments)
+    else:
+        tau_s, albedo_s = np.ascontiguousarray(tau), np.ascontiguousarray(albedo)
+        moments_s = np.zeros((ncol, nlayer, 2 * n))
+        used = min(nmom, 2 * n)
+        moments_s[..., :used] = moments[..., :used]
+    mu0 = np.ascontiguousarray(np.cos(np.radians(zenith)))
+    levels, position_layer, position_fraction = settings["positions"]
+    view_cosines = np.maximum(np.cos(np.radians(settings["view_zenith"])), GRAZING_COSINE)
+    view_azimuths = np.radians(settings["view_azimuth"])
+    npos, nvz, nva = levels.size, view_cosines.size, view_azimuths.size
+
+    flux_up = np.empty((ncol, nsun, npos))
+    flux_down = np.empty((ncol, nsun, npos))
+    mean_intensity = np.empty((ncol, nsun, npos))
+    radiance = np.empty((ncol, nsun, npos, 2, nvz, nva))
+    terms = np.empty(ncol, dtype=np.int64)
+    status = np.empty((ncol, 4), dtype=np.int64)
+    _kernel.solve_columns(
+        tau_s, np.ascontiguousarray(albedo_s), moments_s, mu0,
+        np.ascontiguousarray(irradiance, dtype=np.float64),
+        np.ascontiguousarray(surface_albedo, dtype=np.float64),
+        np.ascontiguousarray(planck_levels, dtype=np.float64),
+        np.ascontiguousarray(planck_surface, dtype=np.float64),
+        np.ascontiguousarray(top_radiance, dtype=np.float64),
+        mu, weights, position_layer, position_fraction,
+        np.ascontiguousarray(view_cosines), np.ascontiguousarray(view_azimuths),
+        settings["max_fourier_terms"], settings["fourier_tolerance"], settings["thermal"],
+        flux_up, flux_down, mean_intensity, radiance, terms, status,
+    )
+    failed = np.flatnonzero(status[:, 0])
+    if failed.size:
+        code, layer, term, info = status[failed[0]]
+        raise SolverError(
+            f"the solver failed in column {failed[0]} of this block (layer {layer}, Fourier "
+            f"term {term}): {_kernel.STATUS_NAMES.get(int(code), 'unknown failure')}"
+            f" (LAPACK info {info})"
+        )
+
+    # depths at the output positions, unscaled (the outputs' coordinate) and scaled
+    top_unscaled = np.concatenate([np.zeros((ncol, 1)), np.cumsum(tau, axis=1)], axis=1)
+    top_scaled = np.concatenate([np.zeros((ncol, 1)), np.cumsum(tau_s, axis=1)], axis=1)
+    depth = top_unscaled[:, position_layer] + position_fraction * tau[:, position_layer]
+    depth_s = top_scaled[:, position_layer] + position_fraction * tau_s[:, position_layer]
+    # the direct beam is reported unscaled; light that delta-M moved into the forward
+    # peak belongs to the diffuse field
+    s = irradiance[:, :, None]
+    cos0 = mu0[:, :, None]
+    direct = s * cos0 * np.exp(-depth[:, None, :] / cos0)
+    direct_scaled = s * cos0 * np.exp(-depth_s[:, None, :] / cos0)
+    flux_down = flux_down + direct_scaled - direct
+    mean_intensity = mean_intensity + direct_scaled / (4.0 * np.pi * cos0)
+
+    outputs = [flux_up, flux_down, direct, mean_intensity]
+    if nvz and nva:
+        if settings["single_scattering_correction"]:
+            radiance = radiance + _single_scattering_correction(
+                tau, albedo, moments, tau_s, albedo_s, moments_s, mu0, irradiance,
+                position_layer, position_fraction, view_cosines, view_azimuths,
+            )
+        outputs.append(radiance)
+    outputs = [array.reshape(*lead, *array.shape[1:]) for array in outputs]
+    outputs.append(terms.reshape(lead))
+    outputs.append(depth.reshape(*lead, npos))
+    return tuple(outputs)
+
+
+def _single_scattering_correction(
+    tau, albedo, moments, tau_s, albedo_s, moments_s, mu0, irradiance,
+    position_layer, position_fraction, view_cosines, view_azimuths,
+) -> np.ndarray:
+    """Exact minus truncated single-scattered radiance (Nakajima and Tanaka 1988).
+
+    The truncated part is what the discrete-ordinates solution holds: scaled layers and the
+    scaled, truncated phase function. The exact part uses the unscaled layers and every
+    supplied moment. Both are single scattering of the beam, computed in the kernel.
+    """
+    ncol, nsun = mu0.shape
+    # cos of the scattering angle between the beam (direction -mu0) and each view
+    # direction: up (+mu) and down (-mu), at each relative azimuth
+    sin0 = np.sqrt(1.0 - mu0**2)[:, :, None, None, None]
+    cos0 = mu0[:, :, None, None, None]
+    sign = np.array([1.0, -1.0])[None, None, :, None, None]
+    muv = view_cosines[None, None, None, :, None]
+    sinv = np.sqrt(1.0 - muv**2)
+    cosine = -sign * muv * cos0 + sinv * sin0 * np.cos(view_azimuths)[None, None, None, None, :]
+    angle = np.degrees(np.arccos(np.clip(cosine, -1.0, 1.0)))   # (col, sun, 2, vz, va)
+    shape = angle.shape[1:]
+    flat = angle.reshape(ncol, 1, -1)
+    exact = _phase_at(moments, flat).reshape(ncol, moments.shape[1], *shape)
+    truncated = _phase_at(moments_s, flat).reshape(ncol, moments.shape[1], *shape)
+    correction = np.zeros((ncol, nsun, position_layer.size, 2, *shape[2:]))
+    _kernel.single_scattering(
+        np.ascontiguousarray(tau), np.ascontiguousarray(albedo),
+        np.ascontiguousarray(exact), mu0, np.ascontiguousarray(irradiance, dtype=np.float64),
+        position_layer, position_fraction, view_cosines, 1.0, correction,
+    )
+    _kernel.single_scattering(
+        np.ascontiguousarray(tau_s), np.ascontiguousarray(albedo_s),
+        np.ascontiguousarray(truncated), mu0,
+        np.ascontiguousarray(irradiance, dtype=np.float64),
+        position_layer, position_fraction, view_cosines, -1.0, correction,
+    )
+    return correction
+
+
+def _phase_at(moments: np.ndarray, angle: np.ndarray) -> np.ndarray:
+    """P(cos T) of every layer of every column at that column's angles: (col, layer, angle)."""
+    cosine = np.cos(np.radians(angle))                        # (col, 1, k)
+    nmom = moments.shape[-1]
+    # Clenshaw-free evaluation by the three-term recurrence, vectorised over all axes
+    p_prev = np.ones_like(cosine)
+    total = moments[..., 0:1] * p_prev
+    if nmom > 1:
+        p_curr = cosine.copy()
+        total = total + 3.0 * moments[..., 1:2] * p_curr
+        for degree in range(2, nmom):
+            p_next = ((2 * degree - 1) * cosine * p_curr - (degree - 1) * p_prev) / degree
+            total = total + (2 * degree + 1) * moments[..., degree:degree + 1] * p_next
+            p_prev, p_curr = p_curr, p_next
+    return total
+
+
+def solve(
+    atmosphere: xr.Dataset,
+    streams: int = 16,
+    sun_zenith: object = 30.0,
+    sun_irradiance: object = 1.0,
+    surface_albedo: object = 0.1,
+    view_zenith: Sequence[float] | np.ndarray | None = None,
+    view_azimuth: Sequence[float] | np.ndarray | None = None,
+    wavenumber_band: tuple[float, float] | None = None,
+    surface_temperature: object = None,
+    top_diffuse_radiance: object = 0.0,
+    *,
+    wavenumber: float | None = None,
+    output_levels: Sequence[float] | np.ndarray | None = None,
+    delta_m: bool = True,
+    single_scattering_correction: bool = True,
+    fourier_tolerance: float = 1e-6,
+    max_fourier_terms: int | None = None,
+    gravity: float = EARTH_GRAVITY,
+    heat_capacity: float = DRY_AIR_HEAT_CAPACITY,
+) -> xr.Dataset:
+    """Radiances, fluxes and mean intensities in a layered plane-parallel atmosphere.
+
+    Parameters
+    ----------
+    atmosphere : xarray.Dataset
+        From :func:`lamina.make_atmosphere`. Extra dims broadcast to every output.
+    streams : int
+        Total number of discrete ordinates (even, >= 2); ``streams // 2`` double-Gauss
+        cosines per hemisphere.
+    sun_zenith : float, list of float or DataArray
+        Zenith angle of the incident beam in degrees, 0 <= theta_0 < 90. A list becomes the
+        output dim ``sun_zenith``; all its angles share one homogeneous solution.
+    sun_irradiance : float or DataArray
+        Beam irradiance S on a plane normal to the beam. Radiances are in units of S per sr.
+    surface_albedo : float or DataArray
+        Lambertian surface albedo in [0, 1]; the surface emits with emissivity 1 - albedo.
+    view_zenith, view_azimuth : list of float, optional
+        Directions (degrees) at which radiances are wanted: zenith angle of the line of
+        propagation from the vertical (0..90, with ``direction`` up or down) and azimuth of
+        propagation measured from that of the beam (0 = forward-scattering side, 180 =
+        backscattering side). Without them only the azimuth-independent problem is solved.
+    wavenumber_band : (float, float), optional
+        Band (cm-1) over which the Planck source is integrated (thermal emission).
+    surface_temperature : float or DataArray, optional
+        Surface temperature in K for thermal runs; defaults to the bottom level temperature.
+    top_diffuse_radiance : float or DataArray
+        Isotropic radiance falling on the top of the atmosphere.
+    wavenumber : float, optional
+        Monochromatic thermal source at this wavenumber (cm-1), radiance per cm-1.
+    output_levels : list of float, optional
+        Fractional level numbers at which to report, e.g. ``[0, 0.5, 3]``: 0.5 is half-way
+        (in optical depth) through layer 0. Default: every level.
+    delta_m : bool
+        Delta-M scaling of forward-peaked phase functions (Wiscombe 1977).
+    single_scattering_correction : bool
+        Replace the truncated single-scattered radiance by the exact one from all moments
+        (Nakajima and Tanaka 1988).
+    fourier_tolerance : float
+        The azimuthal series stops after two consecutive terms that change no requested
+        radiance by more than this fraction.
+    max_fourier_terms : int, optional
+        Cap on the number of azimuthal terms (default: ``streams``, all that the
+        quadrature carries).
+    gravity, heat_capacity : float
+        g (m s-2) and c_p (J kg-1 K-1) for heating rates; defaults are Earth air
+        (9.80665 and 1004).
+
+    Returns
+    -------
+    xarray.Dataset
+        See the README's output table: ``flux_up``, ``flux_down_diffuse``,
+        ``flux_down_direct``, ``flux_down``, ``flux_net``, ``mean_intensity``,
+        ``actinic_flux``, optional ``radiance``, ``flux_divergence``, ``heating_rate``,
+        ``fourier_terms``.
+
+    Examples
+    --------
+    >>> import lamina
+    >>> atm = lamina.make_atmosphere([0.5], [1.0], lamina.phase.henyey_greenstein(0.7, 32))
+    >>> out = lamina.solve(atm, streams=8, sun_zenith=60.0, surface_albedo=0.0)
+    >>> bool(abs(out.flux_up[0] + out.flux_down[-1] - 0.5) < 1e-9)
+    True
+    """
+    check_atmosphere(atmosphere)
+    if isinstance(streams, bool) or not isinstance(streams, int | np.integer):
+        raise ValueError(f"streams must be an even integer >= 2; got {streams!r}")
+    if streams < 2 or streams % 2:
+        raise ValueError(f"streams must be an even integer >= 2; got {streams}")
+    streams = int(streams)
+    tolerance = float(as_float_array(fourier_tolerance, "fourier_tolerance"))
+    if not (np.isfinite(tolerance) and tolerance > 0.0):
+        raise ValueError(f"fourier_tolerance must be positive; got {tolerance:g}")
+    if max_fourier_terms is None:
+        max_terms = streams
+    else:
+        max_terms = int(max_fourier_terms)
+        if max_terms < 1:
+            raise ValueError(f"max_fourier_terms must be >= 1; got {max_fourier_terms}")
+    for name, value in (("gravity", gravity), ("heat_capacity", heat_capacity)):
+        number = float(as_float_array(value, name))
+        if not (np.isfinite(number) and number > 0.0):
+            raise ValueError(f"{name} must be positive; got {number:g}")
+
+    zenith, sun_list = _sun_geometry(sun_zenith)
+    _check_option_values(zenith, "sun_zenith", low=0.0, high=90.0, high_open=True)
+    irradiance = _option_array(sun_irradiance, "sun_irradiance")
+    _check_option_values(irradiance, "sun_irradiance", low=0.0)
+    if _SUN not in irradiance.dims:
+        irradiance = irradiance.expand_dims({_SUN: zenith.sizes[_SUN]})
+    albedo = _option_array(surface_albedo, "surface_albedo")
+    _check_option_values(albedo, "surface_albedo", low=0.0, high=1.0)
+    top = _option_array(top_diffuse_radiance, "top_diffuse_radiance")
+    _check_option_values(top, "top_diffuse_radiance", low=0.0)
+    view_z, view_a = _view_angles(view_zenith, view_azimuth)
+    nlayer = atmosphere.sizes["layer"]
+    positions = _positions(output_levels, nlayer)
+    planck_levels, planck_surface, thermal_units = _planck_sources(
+        atmosphere, wavenumber_band, wavenumber, surface_temperature
+    )
+    thermal = thermal_units is not None
+    want_radiance = view_z.size > 0
+
+    settings = {
+        "streams": streams, "delta_m": bool(delta_m),
+        "single_scattering_correction": bool(single_scattering_correction),
+        "fourier_tolerance": tolerance, "max_fourier_terms": max_terms,
+        "thermal": thermal, "positions": positions, "view_zenith": view_z,
+        "view_azimuth": view_a,
+    }
+    core_in = [["layer"], ["layer"], ["layer", "moment"], [_SUN], [_SUN], [], ["level"], [], []]
+    inputs = [
+        atmosphere["optical_depth"], atmosphere["single_scattering_albedo"],
+        atmosphere["phase_moments"], zenith, irradiance, albedo, planck_levels,
+        planck_surface, top,
+    ]
+    inputs = [
+        array.chunk({dim: -1 for dim in core}) if array.chunks is not None else array
+        for array, core in zip(inputs, core_in, strict=True)
+    ]
+    flux_core = [_SUN, _POSITION]
+    core_out = [flux_core] * 4
+    if want_radiance:
+        core_out.append([_SUN, _POSITION, "direction", "view_zenith", "view_azimuth"])
+    core_out += [[], [_POSITION]]
+    sizes = {_POSITION: positions[0].size, "direction": 2, "view_zenith": view_z.size,
+             "view_azimuth": view_a.size}
+    results = xr.apply_ufunc(
+        _block, *inputs,
+        input_core_dims=core_in,
+        output_core_dims=core_out,
+        kwargs={"settings": settings},
+        dask="parallelized",
+        output_dtypes=[np.float64] * (len(core_out) - 2) + [np.int64, np.float64],
+        dask_gufunc_kwargs={"output_sizes": sizes},
+        keep_attrs=False,
+    )
+    names = ["flux_up", "flux_down_diffuse", "flux_down_direct", "mean_intensity"]
+    if want_radiance:
+        names.append("radiance")
+    names += ["fourier_terms", "cumulative_optical_depth"]
+    out = xr.Dataset(dict(zip(names, results, strict=True)))
+    out = out.rename({_POSITION: "level"})
+    depth = out["cumulative_optical_depth"]
+    out = out.drop_vars("cumulative_optical_depth").assign_coords(
+        level=positions[0] if output_levels is not None else np.arange(nlayer + 1),
+        cumulative_optical_depth=depth,
+    )
+    if want_radiance:
+        out = out.assign_coords(direction=["up", "down"], view_zenith=view_z,
+                                view_azimuth=view_a)
+    if sun_list:
+        out = out.rename({_SUN: "sun_zenith"})
+        if "sun_zenith" not in out.coords and zenith.ndim == 1:
+            out = out.assign_coords(sun_zenith=zenith.values)
+    else:
+        out = out.isel({_SUN: 0}, drop=True)
+        if zenith.ndim == 1:
+            out = out.assign_coords(sun_zenith=float(zenith.values[0]))
+    out = _derived(out, atmosphere, positions, output_levels is None, gravity, heat_capacity)
+    _describe(out, thermal_units, settings)
+    return out
+
+
+def _derived(out, atmosphere, positions, on_levels, gravity, heat_capacity):
+    out["flux_down"] = out["flux_down_diffuse"] + out["flux_down_direct"]
+    out["flux_net"] = out["flux_down"] - out["flux_up"]
+    out["actinic_flux"] = 4.0 * np.pi * out["mean_intensity"]
+    for name in ("pressure", "altitude"):
+        if name in atmosphere and on_levels:
+            out = out.assign_coords({name: ("level", np.asarray(atmosphere[name].values))})
+    if on_levels:
+        net = out["flux_net"]
+        top = net.isel(level=slice(None, -1)).drop_vars(
+            ["level", "cumulative_optical_depth", "pressure", "altitude"], errors="ignore")
+        bottom = net.isel(level=slice(1, None)).drop_vars(
+            ["level", "cumulative_optical_depth", "pressure", "altitude"], errors="ignore")
+        divergence = (top - bottom).rename({"level": "layer"})
+        out["flux_divergence"] = divergence.assign_coords(
+            layer=np.arange(atmosphere.sizes["layer"]))
+        if "pressure" in atmosphere:
+            pressure = np.asarray(atmosphere["pressure"].values, dtype=np.float64)
+            thickness = xr.DataArray(np.diff(pressure), dims=("layer",))
+            out["heating_rate"] = (gravity / heat_capacity * out["flux_divergence"]
+                                   / thickness * SECONDS_PER_DAY)
+    return out
+
+
+def _describe(out: xr.Dataset, thermal_units: str | None, settings: dict) -> None:
+    """Units, long names and solver settings on the output Dataset."""
+    if thermal_units is None:
+        flux_units = "W m-2"
+        note = "in the units of sun_irradiance (W m-2 when that is W m-2)"
+    else:
+        flux_units = "W m-2" if thermal_units == "W m-2 sr-1" else "W m-2 cm"
+        note = "sun_irradiance must be in the same units"
+    radiance_units = flux_units + " sr-1" if flux_units == "W m-2" else "W m-2 sr-1 cm"
+    described = {
+        "flux_up": ("upward diffuse flux on a horizontal plane", flux_units,
+                    "upwelling_radiative_flux_in_air"),
+        "flux_down_diffuse": ("downward diffuse flux on a horizontal plane", flux_units,
+                              "downwelling_diffuse_radiative_flux_in_air"),
+        "flux_down_direct": ("downward flux of the attenuated direct beam", flux_units,
+                             "downwelling_direct_radiative_flux_in_air"),
+        "flux_down": ("total downward flux (diffuse + direct)", flux_units,
+                      "downwelling_radiative_flux_in_air"),
+        "flux_net": ("net downward flux (down minus up)", flux_units,
+                     "net_downward_radiative_flux_in_air"),
+        "mean_intensity": ("mean intensity J, the radiance averaged over all directions "
+                           "including the direct beam", radiance_units, None),
+        "actinic_flux": ("actinic flux 4 pi J", flux_units, None),
+        "radiance": ("radiance at the view angles", radiance_units, None),
+        "flux_divergence": ("radiative energy absorbed per layer: net downward flux at its "
+                            "top minus at its bottom", flux_units, None),
+        "heating_rate": ("radiative heating rate (g / c_p) (F_net,top - F_net,bottom) / "
+                         "(p_bottom - p_top)", "K day-1",
+                         "tendency_of_air_temperature_due_to_radiative_heating"),
+        "fourier_terms": ("number of azimuthal Fourier terms summed", "1", None),
+    }
+    for name, (long_name, units, standard) in described.items():
+        if name in out:
+            out[name].attrs = {"long_name": long_name, "units": units}
+            if standard:
+                out[name].attrs["standard_name"] = standard
+    out["cumulative_optical_depth"].attrs = {
+        "long_name": "optical depth from the top of the atmosphere (unscaled)", "units": "1"}
+    out["level"].attrs = {"long_name": "level number from the top (fractional: position "
+                                       "inside a layer, in optical depth)", "units": "1"}
+    if "view_zenith" in out.coords:
+        out["view_zenith"].attrs = {"long_name": "zenith angle of the propagation direction "
+                                                 "from the vertical", "units": "degree"}
+        out["view_azimuth"].attrs = {"long_name": "azimuth of propagation from that of the "
+                                                  "incident beam (0 = forward side)",
+                                     "units": "degree"}
+        out["direction"].attrs = {"long_name": "up: propagating upward; down: downward"}
+    if "sun_zenith" in out.coords:
+        out["sun_zenith"].attrs = {"long_name": "solar zenith angle", "units": "degree",
+                                   "standard_name": "solar_zenith_angle"}
+    if "pressure" in out.coords:
+        out["pressure"].attrs = {"long_name": "pressure at the level", "units": "Pa",
+                                 "standard_name": "air_pressure"}
+    if "altitude" in out.coords:
+        out["altitude"].attrs = {"long_name": "altitude of the level", "units": "m",
+                                 "standard_name": "altitude"}
+    from lamina import __version__
+
+    out.attrs = {
+        "title": "lamina discrete-ordinates radiative transfer",
+        "Conventions": "CF-1.10",
+        "lamina_version": __version__,
+        "history": f"{_datetime.datetime.now(_datetime.UTC).isoformat(timespec='seconds')} "
+                   "computed by lamina.solve",
+        "streams": settings["streams"],
+        "delta_m": int(settings["delta_m"]),
+        "single_scattering_correction": int(settings["single_scattering_correction"]),
+        "fourier_tolerance": settings["fourier_tolerance"],
+        "max_fourier_terms": settings["max_fourier_terms"],
+        "thermal_source": int(settings["thermal"]),
+        "flux_units_note": note,
+        "azimuth_convention": "view_azimuth is measured from the azimuth of the beam's "
+                              "propagation: 0 forward-scattering side, 180 backscattering",
+    }
