@@ -43,15 +43,22 @@ layer boundaries) too.
     [[atmosphere.constituent]]
     name = "haze"
     optical_depth = [0.1, 0.05, 0.0, 0.0]
-    mie = {median_radius = 0.3, geometric_standard_deviation = 1.5,
-           refractive_index = [1.5, 0.01]}      # micrometres; w, phase and spectral law from Mie
+    [atmosphere.constituent.mie]                 # albedo, phase and spectral law from Mie
+    median_radius = 0.3                          # micrometres
+    geometric_standard_deviation = 1.5
+    refractive_index = [1.5, 0.01]               # real, imaginary (absorbing when > 0)
 
-    # ... or read from a netCDF file (path relative to the scenario file); the variables are
-    # renamed to lamina's names; dims must be called layer / level / moment (or be renamed with
-    # `dimensions = {layer = "z", level = "zlev"}`); any other dim (wavelength, column...)
+    # ... or read from a netCDF file (path relative to the scenario file), naming the file's
+    # variables; its dims must be called layer / level / moment or be renamed with
+    # `dimensions = {layer = "z", level = "zlev"}`; any other dim (wavelength, column...)
     # is carried through.
-    profile = {file = "profile.nc", optical_depth = "tau", single_scattering_albedo = "ssa",
-               phase_moments = "pmom", temperature = "t", pressure = "p"}
+    [atmosphere.profile]
+    file = "profile.nc"
+    optical_depth = "tau"
+    single_scattering_albedo = "ssa"
+    phase_moments = "pmom"              # or phase = {kind = ...} for every layer
+    temperature = "t"
+    pressure = "p"
 
     [spectrum]                                   # optional: a wavelength dim
     wavelength = {start = 0.4, stop = 2.4, count = 30, units = "um"}   # or a list; nm, um, m
@@ -207,7 +214,7 @@ class _Table:
                 close = difflib.get_close_matches(key, allowed, n=1, cutoff=0.6)
                 hint = f"; did you mean {close[0]!r}?" if close else ""
                 raise ScenarioError(
-                    f"{self.file}: {self.label} unknown key {self.prefix}{key!r}{hint} "
+                    f"{self.file}: {self.label} unknown key '{self.prefix}{key}'{hint} "
                     f"(valid keys: {', '.join(allowed)})"
                 )
 
@@ -219,7 +226,7 @@ class _Table:
             return self.data[key]
         if default is _REQUIRED:
             raise ScenarioError(f"{self.file}: {self.label} missing required key "
-                                f"{self.prefix}{key!r} (expected {expected})")
+                                f"'{self.prefix}{key}' (expected {expected})")
         return default
 
     def sub(self, key: str, expected: str = "a table") -> _Table:
@@ -237,6 +244,8 @@ class _Table:
     def string(self, key: str, default: Any = _REQUIRED, choices: Sequence[str] = ()) -> str:
         expected = f"one of {', '.join(map(repr, choices))}" if choices else "a string"
         value = self.raw(key, default, expected)
+        if key not in self.data:
+            return value
         if not isinstance(value, str):
             raise self.error(key, expected, value)
         if choices and value not in choices:
@@ -685,7 +694,7 @@ def _parse_constituent(table: _Table, n_layers: int | None, spectral: bool,
                      vector=False)),
                  "geometric_standard_deviation": float(mie.numbers(
                      "geometric_standard_deviation", what="a geometric standard deviation",
-                     low=1.0, vector=False)),
+                     low=1.0, low_open=True, vector=False)),
                  "refractive_index": complex(index[0], index[1])})
     ssa = _per_layer(table, "single_scattering_albedo", n_layers,
                      what="a single-scattering albedo", low=0.0, high=1.0)
@@ -725,6 +734,16 @@ def _parse_profile(table: _Table, base: Path, n_moments: int) -> dict[str, Any]:
                                 "variable name or a phase table)")
         # one phase function for every layer of the file
         spec["phase"] = _parse_phase(profile, "phase", 1, n_moments)[0]
+    try:
+        with xr.open_dataset(file) as source:
+            available = [str(name) for name in source.variables]
+    except (OSError, ValueError) as error:
+        raise ScenarioError(f"{profile.where('file')}: cannot read {file} as netCDF "
+                            f"({error})") from None
+    for name in names:
+        if spec[name] is not None and spec[name] not in available:
+            raise ScenarioError(f"{profile.where(name)}: variable {spec[name]!r} not found in "
+                                f"{file} (it has: {', '.join(available) or 'nothing'})")
     dims = profile.sub("dimensions").data if profile.has("dimensions") else {}
     for new, old in dims.items():
         if new not in ("layer", "level", "moment") or not isinstance(old, str):

@@ -1,0 +1,284 @@
+"""The ``lamina`` command: run scenarios, draw results, run the demo and the validation suite.
+
+::
+
+    lamina run SCENARIO.toml --output OUT.nc [--chunk-size N] [--resume] [--no-progress]
+    lamina plot RESULT.nc [--output DIR]
+    lamina demo --output DIR [--no-progress]
+    lamina validate [--report FILE.md] [--case NAME]
+
+Mistakes in the input (a bad scenario, an unwritable output path, an invalid option) are
+reported as one line on standard error with exit status 2, without a traceback.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+import time
+from collections.abc import Sequence
+from importlib import resources
+from pathlib import Path
+
+import numpy as np
+import xarray as xr
+
+__all__ = ["main"]
+
+EXIT_OK = 0
+EXIT_FAILURE = 1
+EXIT_USAGE = 2
+EXIT_INTERRUPTED = 130
+
+
+class _Parser(argparse.ArgumentParser):
+    """An ArgumentParser whose usage errors read like the command's other errors."""
+
+    def error(self, message: str) -> None:  # type: ignore[override]
+        self.print_usage(sys.stderr)
+        raise _UsageError(f"{self.prog}: {message}")
+
+
+class _UsageError(Exception):
+    pass
+
+
+def _positive_int(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a positive integer; got {text!r}") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"expected a positive integer; got {value}")
+    return value
+
+
+def _build_parser() -> _Parser:
+    parser = _Parser(
+        prog="lamina",
+        description="Discrete-ordinates radiative transfer in plane-parallel atmospheres.",
+        epilog="Run 'lamina COMMAND --help' for the options of each command.",
+    )
+    from lamina import __version__
+
+    parser.add_argument("--version", action="version", version=f"lamina {__version__}")
+    commands = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    commands.required = True
+
+    run = commands.add_parser(
+        "run", help="solve a scenario file and write a netCDF result",
+        description="Solve the scenario described in a TOML file (format: see the module "
+                    "lamina.scenario and examples/) and write the result as netCDF. Spectral "
+                    "runs can be split into chunks that are kept on disk as they finish, so "
+                    "that an interrupted run continues with --resume.")
+    run.add_argument("scenario", type=Path, metavar="SCENARIO.toml", help="scenario file")
+    run.add_argument("--output", "-o", type=Path, required=True, metavar="OUT.nc",
+                     help="netCDF file to write (its folder must exist)")
+    run.add_argument("--chunk-size", type=_positive_int, metavar="N",
+                     help="spectral points per chunk (default: [output] chunk_size of the "
+                          "scenario, else all at once)")
+    run.add_argument("--resume", action="store_true",
+                     help="continue an interrupted run, skipping the chunks already written")
+    run.add_argument("--no-progress", action="store_true", help="draw no progress bar")
+    run.set_defaults(handler=_run)
+
+    plot = commands.add_parser(
+        "plot", help="draw the figures of a result file",
+        description="Draw flux and mean-intensity profiles, radiances, spectra and heating "
+                    "rates (whichever the result holds) as PNG files.")
+    plot.add_argument("result", type=Path, metavar="RESULT.nc", help="a lamina result file")
+    plot.add_argument("--output", "-o", type=Path, metavar="DIR",
+                      help="folder for the PNG files (default: the result's folder)")
+    plot.set_defaults(handler=_plot)
+
+    demo = commands.add_parser(
+        "demo", help="run the built-in demo scenario end to end",
+        description="Solve an invented hazy, cloud-capped atmosphere of a fictional planet "
+                    "from the visible to the near infrared, write demo.nc and its figures "
+                    "into DIR and print a summary.")
+    demo.add_argument("--output", "-o", type=Path, required=True, metavar="DIR",
+                      help="folder for demo.nc and the figures (created if its parent exists)")
+    demo.add_argument("--no-progress", action="store_true", help="draw no progress bar")
+    demo.set_defaults(handler=_demo)
+
+    validate = commands.add_parser(
+        "validate", help="run the validation suite against published results",
+        description="Compare lamina with published and exact results and write a report.")
+    validate.add_argument("--report", type=Path, metavar="FILE.md",
+                          help="write the report (markdown) to this file")
+    validate.add_argument("--case", action="append", metavar="NAME",
+                          help="run only this case (may be repeated)")
+    validate.set_defaults(handler=_validate)
+    return parser
+
+
+# --------------------------------------------------------------------------------------------
+# Commands
+# --------------------------------------------------------------------------------------------
+
+
+def _solve_scenario(scenario_path: Path, output: Path, chunk_size: int | None, resume: bool,
+                    progress: bool) -> xr.Dataset:
+    from lamina.io import check_writable, run_chunked
+    from lamina.scenario import load_scenario
+
+    check_writable(output)  # before reading and computing anything
+    scenario = load_scenario(scenario_path)
+    atmosphere = scenario.build_atmosphere()
+    return run_chunked(
+        atmosphere, scenario.solve_kwargs(), output,
+        chunk_size if chunk_size is not None else scenario.chunk_size,
+        resume=resume, progress=progress, variables=scenario.variables,
+        attributes=scenario.attributes())
+
+
+def _run(args: argparse.Namespace) -> int:
+    start = time.monotonic()
+    result = _solve_scenario(args.scenario, args.output, args.chunk_size, args.resume,
+                             not args.no_progress)
+    sizes = " x ".join(f"{size} {dim}" for dim, size in result.sizes.items())
+    print(f"wrote {args.output} ({sizes}) in {time.monotonic() - start:.1f} s")
+    return EXIT_OK
+
+
+def _plot(args: argparse.Namespace) -> int:
+    from lamina.plotting import plot_result
+
+    if not args.result.is_file():
+        raise ValueError(f"{args.result}: no such result file")
+    folder = args.output if args.output is not None else args.result.parent
+    if not folder.is_dir():
+        raise ValueError(f"cannot write plots to {folder}: not an existing folder")
+    try:
+        result = xr.open_dataset(args.result)
+    except (OSError, ValueError) as error:
+        raise ValueError(f"{args.result}: cannot read it as netCDF ({error})") from None
+    with result:
+        result.load()
+    written = plot_result(result, folder, prefix=f"{args.result.stem}_")
+    for path in written:
+        print(f"wrote {path}")
+    return EXIT_OK
+
+
+def _demo_scenario() -> Path:
+    return Path(str(resources.files("lamina") / "data" / "demo.toml"))
+
+
+def _summary(result: xr.Dataset) -> list[str]:
+    """A few numbers a person checks first: albedo range, fluxes at the top and bottom."""
+    lines = []
+    top, bottom = result.isel(level=0), result.isel(level=-1)
+    selection = {d: 0 for d in top["flux_up"].dims if d not in ("wavelength",)}
+    first_sun = ""
+    if "sun_zenith" in result.dims:
+        first_sun = f" (sun zenith {float(result['sun_zenith'][0]):g} degrees)"
+    if "wavelength" in result.dims:
+        albedo = (top["flux_up"] / top["flux_down"]).isel(selection)
+        low, high = int(albedo.argmin()), int(albedo.argmax())
+        wavelength = result["wavelength"].values
+        lines.append(
+            f"  spectral albedo at the top{first_sun}: {float(albedo[low]):.3f} at "
+            f"{wavelength[low]:.3g} um to {float(albedo[high]):.3f} at "
+            f"{wavelength[high]:.3g} um")
+        band_mean = {name: float(array.isel(selection).mean("wavelength"))
+                     for name, array in (("up_top", top["flux_up"]),
+                                         ("down_top", top["flux_down"]),
+                                         ("down_bottom", bottom["flux_down"]),
+                                         ("direct_bottom", bottom["flux_down_direct"]))}
+        prefix = "  mean over wavelength"
+    else:
+        band_mean = {"up_top": float(top["flux_up"].isel(selection)),
+                     "down_top": float(top["flux_down"].isel(selection)),
+                     "down_bottom": float(bottom["flux_down"].isel(selection)),
+                     "direct_bottom": float(bottom["flux_down_direct"].isel(selection))}
+        prefix = " "
+    units = result["flux_up"].attrs.get("units", "")
+    lines.append(f"{prefix}{first_sun} at the top: down {band_mean['down_top']:.4g}, up "
+                 f"{band_mean['up_top']:.4g} {units}; at the surface: down "
+                 f"{band_mean['down_bottom']:.4g} (direct {band_mean['direct_bottom']:.4g}) "
+                 f"{units}")
+    return lines
+
+
+def _demo(args: argparse.Namespace) -> int:
+    from lamina.plotting import plot_result
+
+    start = time.monotonic()
+    folder: Path = args.output
+    if folder.exists() and not folder.is_dir():
+        raise ValueError(f"cannot write the demo to {folder}: it is a file, expected a folder")
+    if not folder.exists():
+        if not folder.parent.is_dir():
+            raise ValueError(f"cannot write the demo to {folder}: its folder {folder.parent} "
+                             "does not exist")
+        folder.mkdir()
+    output = folder / "demo.nc"
+    result = _solve_scenario(_demo_scenario(), output, None, False, not args.no_progress)
+    written = plot_result(result, folder)
+    print(f"lamina demo: {result.attrs.get('title', 'demo')}")
+    print(f"  wrote {output} ({', '.join(f'{n} {d}' for d, n in result.sizes.items())})")
+    for line in _summary(result):
+        print(line)
+    print(f"  figures: {', '.join(path.name for path in written)}")
+    print(f"  took {time.monotonic() - start:.1f} s")
+    return EXIT_OK
+
+
+def _validate(args: argparse.Namespace) -> int:
+    try:
+        from lamina.validation import run_suite
+    except ImportError:
+        raise ValueError("the validation suite (lamina.validation) is not part of this "
+                         "installation yet") from None
+    if args.report is not None:
+        from lamina.io import check_writable
+
+        check_writable(args.report)
+    outcome = run_suite(report=args.report, cases=args.case)
+    passed = getattr(outcome, "passed", outcome)
+    if isinstance(passed, bool | np.bool_):
+        return EXIT_OK if passed else EXIT_FAILURE
+    return EXIT_OK
+
+
+# --------------------------------------------------------------------------------------------
+# Entry point
+# --------------------------------------------------------------------------------------------
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Run the ``lamina`` command with ``argv`` (default: ``sys.argv[1:]``).
+
+    Returns
+    -------
+    int
+        Exit status: 0 on success, 1 on a failed computation or validation, 2 on a mistake
+        in the input (printed as one line on standard error), 130 when interrupted.
+    """
+    parser = _build_parser()
+    try:
+        args = parser.parse_args(argv)
+    except _UsageError as error:
+        print(f"{error}", file=sys.stderr)
+        return EXIT_USAGE
+    except SystemExit as exit_:  # --help and --version
+        return int(exit_.code or 0)
+    try:
+        return int(args.handler(args))
+    except ValueError as error:  # includes ScenarioError
+        print(f"lamina {args.command}: error: {error}", file=sys.stderr)
+        return EXIT_USAGE
+    except OSError as error:
+        print(f"lamina {args.command}: error: {error}", file=sys.stderr)
+        return EXIT_FAILURE
+    except KeyboardInterrupt:
+        hint = ""
+        if args.command == "run":
+            hint = "; finished chunks are kept: rerun with --resume to continue"
+        print(f"lamina {args.command}: interrupted{hint}", file=sys.stderr)
+        return EXIT_INTERRUPTED
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
