@@ -167,37 +167,26 @@ def _demo_scenario() -> Path:
 
 def _summary(result: xr.Dataset) -> list[str]:
     """A few numbers a person checks first: albedo range, fluxes at the top and bottom."""
-    lines = []
     top, bottom = result.isel(level=0), result.isel(level=-1)
-    selection = {d: 0 for d in top["flux_up"].dims if d not in ("wavelength",)}
-    first_sun = ""
-    if "sun_zenith" in result.dims:
-        first_sun = f" (sun zenith {float(result['sun_zenith'][0]):g} degrees)"
-    if "wavelength" in result.dims:
-        albedo = (top["flux_up"] / top["flux_down"]).isel(selection)
-        low, high = int(albedo.argmin()), int(albedo.argmax())
-        wavelength = result["wavelength"].values
-        lines.append(
-            f"  spectral albedo at the top{first_sun}: {float(albedo[low]):.3f} at "
-            f"{wavelength[low]:.3g} um to {float(albedo[high]):.3f} at "
-            f"{wavelength[high]:.3g} um")
-        band_mean = {name: float(array.isel(selection).mean("wavelength"))
-                     for name, array in (("up_top", top["flux_up"]),
-                                         ("down_top", top["flux_down"]),
-                                         ("down_bottom", bottom["flux_down"]),
-                                         ("direct_bottom", bottom["flux_down_direct"]))}
-        prefix = "  mean over wavelength"
-    else:
-        band_mean = {"up_top": float(top["flux_up"].isel(selection)),
-                     "down_top": float(top["flux_down"].isel(selection)),
-                     "down_bottom": float(bottom["flux_down"].isel(selection)),
-                     "direct_bottom": float(bottom["flux_down_direct"].isel(selection))}
-        prefix = " "
+    # one sun angle (and column...) for the summary: the first
+    first = {d: 0 for d in top["flux_up"].dims if d != "wavelength"}
+    top, bottom = top.isel(first), bottom.isel(first)
+    where = ", ".join(f"{d.replace('_', ' ')} {result[d].values[0]:g}" for d in first
+                      if d in result.coords)
+    lines = [f"  at {where}:"] if where else []
     units = result["flux_up"].attrs.get("units", "")
-    lines.append(f"{prefix}{first_sun} at the top: down {band_mean['down_top']:.4g}, up "
-                 f"{band_mean['up_top']:.4g} {units}; at the surface: down "
-                 f"{band_mean['down_bottom']:.4g} (direct {band_mean['direct_bottom']:.4g}) "
-                 f"{units}")
+    if "wavelength" in top.dims:
+        albedo = (top["flux_up"] / top["flux_down"]).values
+        wavelength = result["wavelength"].values
+        low, high = int(np.argmin(albedo)), int(np.argmax(albedo))
+        lines.append(f"    albedo at the top: {albedo[low]:.3f} at {wavelength[low]:.3g} um "
+                     f"to {albedo[high]:.3f} at {wavelength[high]:.3g} um")
+        top, bottom = top.mean("wavelength"), bottom.mean("wavelength")
+        units = f"{units} (mean over wavelength)"
+    lines.append(f"    top: down {float(top['flux_down']):.4g}, up {float(top['flux_up']):.4g}; "
+                 f"surface: down {float(bottom['flux_down']):.4g} of which direct "
+                 f"{float(bottom['flux_down_direct']):.3g}, up {float(bottom['flux_up']):.4g}"
+                 f" {units}")
     return lines
 
 
@@ -271,6 +260,9 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_USAGE
     except OSError as error:
         print(f"lamina {args.command}: error: {error}", file=sys.stderr)
+        return EXIT_FAILURE
+    except RuntimeError as error:  # lamina.SolverError: the solver could not finish
+        print(f"lamina {args.command}: solver failed: {error}", file=sys.stderr)
         return EXIT_FAILURE
     except KeyboardInterrupt:
         hint = ""

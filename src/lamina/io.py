@@ -140,6 +140,12 @@ def _prepared(dataset: xr.Dataset, settings: Mapping[str, Any] | None) -> xr.Dat
     return out
 
 
+def _umask() -> int:
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
+
+
 def _fsync_folder(folder: Path) -> None:
     """Make the rename itself durable (best effort: not every platform can open folders)."""
     try:
@@ -205,6 +211,8 @@ def write_netcdf(dataset: xr.Dataset, path: str | os.PathLike[str], *,
                            encoding=encoding)
         with open(temporary, "rb+") as handle:
             os.fsync(handle.fileno())
+        # mkstemp makes the file private (0600); give it the mode a plain open() would
+        os.chmod(temporary, 0o666 & ~_umask())
         os.replace(temporary, target)
     except BaseException:
         with contextlib.suppress(FileNotFoundError):
@@ -329,6 +337,19 @@ def _slice_kwargs(kwargs: Mapping[str, Any], dim: str, where: slice) -> dict[str
                   and dim in value.dims else value) for key, value in kwargs.items()}
 
 
+def _with_input_coordinate_attributes(result: xr.Dataset, atmosphere: xr.Dataset) -> xr.Dataset:
+    """Give coordinates that came from the input (e.g. wavelength) the input's units back."""
+    missing = {name: atmosphere[name].attrs for name in result.coords
+               if name in atmosphere.coords and atmosphere[name].attrs
+               and not result[name].attrs}
+    if not missing:
+        return result
+    result = result.copy(deep=False)
+    for name, attrs in missing.items():
+        result[name].attrs = dict(attrs)
+    return result
+
+
 def run_chunked(
     atmosphere: xr.Dataset,
     solve_kwargs: Mapping[str, Any],
@@ -420,7 +441,7 @@ def run_chunked(
             else:
                 chunk = atmosphere.isel({spectral: where})
                 kwargs = _slice_kwargs(solve_kwargs, spectral, where)
-            result = solver(chunk, **kwargs)
+            result = _with_input_coordinate_attributes(solver(chunk, **kwargs), chunk)
             if variables is not None:
                 result = result[list(variables)]
             write_netcdf(result, files[number])
@@ -434,8 +455,7 @@ def run_chunked(
     else:
         combined = xr.concat(parts, dim=spectral, data_vars="minimal", coords="minimal",
                              compat="equals", join="exact", combine_attrs="override")
-    for name in ("history", "date_created"):
-        combined.attrs.pop(name, None)
+    combined.attrs.pop("date_created", None)  # write_netcdf stamps the final file
     write_netcdf(combined, target, settings=attributes)
     # Only now is it safe to forget the parts: the whole result is on disk.
     shutil.rmtree(folder)

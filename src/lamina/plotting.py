@@ -24,6 +24,7 @@ from matplotlib import colormaps
 from matplotlib.axes import Axes
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
+from matplotlib.lines import Line2D
 
 __all__ = [
     "flux_profiles",
@@ -59,16 +60,21 @@ def _save(figure: Figure, path: str | os.PathLike[str] | None) -> Figure:
     return figure
 
 
-def _label(array: xr.DataArray | xr.Variable, name: str) -> str:
-    units = array.attrs.get("units")
-    text = array.attrs.get("long_name", name.replace("_", " "))
-    return f"{text} [{units}]" if units not in (None, "", "1") else text
+_UNIT_TEXT = {"degree": "°", "degrees": "°", "um": " µm", "micrometre": " µm", "nm": " nm",
+              "cm-1": " cm⁻¹", "1": ""}
 
 
-def _format_value(dim: str, value: object) -> str:
-    if isinstance(value, float | np.floating):
-        return f"{dim.replace('_', ' ')} {value:.4g}"
-    return f"{dim.replace('_', ' ')} {value}"
+def _format_value(result: xr.Dataset | xr.DataArray, dim: str, value: object) -> str:
+    """``wavelength 0.55 µm``, ``sun zenith 30°``: a dim value with its units."""
+    units = result[dim].attrs.get("units", "") if dim in result.coords else ""
+    suffix = _UNIT_TEXT.get(units, f" {units}" if units else "")
+    number = f"{value:.4g}" if isinstance(value, float | np.floating) else f"{value}"
+    return f"{dim.replace('_', ' ')} {number}{suffix}"
+
+
+def _units(array: xr.DataArray) -> str:
+    units = array.attrs.get("units", "")
+    return f" [{units}]" if units not in ("", "1") else ""
 
 
 def _split_dims(array: xr.DataArray, keep: Sequence[str] = ()) -> tuple[str | None, list[str]]:
@@ -79,7 +85,7 @@ def _split_dims(array: xr.DataArray, keep: Sequence[str] = ()) -> tuple[str | No
 
 
 def _fix_others(array: xr.DataArray, others: Sequence[str]) -> tuple[xr.DataArray, str]:
-    note = ", ".join(_format_value(d, array[d].values[0] if d in array.coords else 0)
+    note = ", ".join(_format_value(array, d, array[d].values[0] if d in array.coords else 0)
                      for d in others)
     return array.isel({d: 0 for d in others}), note
 
@@ -134,8 +140,9 @@ def _vertical_values(result: xr.Dataset, vertical: str, selection: dict[str, int
 
 
 def _profile_panels(result: xr.Dataset, names: Sequence[str], titles: Sequence[str],
-                    vertical: str, dim: str = "level",
+                    quantity: Sequence[str], vertical: str, dim: str = "level",
                     path: str | os.PathLike[str] | None = None) -> Figure:
+    axis_names = dict(zip(names, quantity, strict=True))
     present = [(n, t) for n, t in zip(names, titles, strict=True) if n in result.data_vars]
     if not present:
         raise ValueError(f"the result has none of {', '.join(names)}")
@@ -160,12 +167,13 @@ def _profile_panels(result: xr.Dataset, names: Sequence[str], titles: Sequence[s
                 value = result[series].values[index] if series in result.coords else index
                 ax.plot(np.asarray(line.transpose(dim, ...)).reshape(line.sizes[dim], -1)[:, 0],
                         y, color=colour, linewidth=1.4, marker="o", markersize=2,
-                        label=_format_value(series, value))
+                        label=_format_value(result, series, value))
         ax.set_title(title, fontsize=10, loc="left")
-        ax.set_xlabel(_label(array, name), fontsize=9)
+        ax.set_xlabel(f"{axis_names[name]}{_units(array)}", fontsize=9)
     _set_vertical_axis(axes[0], vertical)
     if series is not None:
-        axes[-1].legend(fontsize=7, frameon=False, loc="best")
+        figure.legend(*axes[0].get_legend_handles_labels(), loc="outside right center",
+                      fontsize=8, frameon=False)
     heading = str(result.attrs.get("title", ""))
     if note:
         heading = f"{heading} ({note})" if heading else note
@@ -194,13 +202,14 @@ def flux_profiles(result: xr.Dataset, *, vertical: str = "auto",
     return _profile_panels(
         result, ["flux_up", "flux_down_diffuse", "flux_down_direct", "flux_net"],
         ["upward", "downward, diffuse", "downward, direct beam", "net (down minus up)"],
-        vertical, path=path)
+        ["flux"] * 4, vertical, path=path)
 
 
 def mean_intensity_profile(result: xr.Dataset, *, vertical: str = "auto",
                            path: str | os.PathLike[str] | None = None) -> Figure:
     """Mean intensity (and actinic flux when present) against height; see :func:`flux_profiles`."""
     return _profile_panels(result, ["mean_intensity", "actinic_flux"],
+                           ["mean intensity J", "actinic flux 4πJ"],
                            ["mean intensity", "actinic flux"], vertical, path=path)
 
 
@@ -208,7 +217,8 @@ def heating_rate_profile(result: xr.Dataset, *, vertical: str = "auto",
                          path: str | os.PathLike[str] | None = None) -> Figure:
     """Heating rate (and flux divergence) of each layer against height."""
     figure = _profile_panels(result, ["heating_rate", "flux_divergence"],
-                             ["heating rate", "flux divergence"], vertical, dim="layer",
+                             ["heating rate of each layer", "energy absorbed in each layer"],
+                             ["heating rate", "absorbed flux"], vertical, dim="layer",
                              path=None)
     for ax in figure.axes:
         ax.axvline(0.0, color="0.5", linewidth=0.8)
@@ -244,8 +254,8 @@ def radiance_by_view_zenith(result: xr.Dataset, *, top_level: int = 0,
     fixed = {d: 0 for d in others}
     if series is not None:
         fixed[series] = radiance.sizes[series] // 2
-    note = ", ".join(_format_value(d, radiance[d].values[i] if d in radiance.coords else i)
-                     for d, i in fixed.items())
+    note = ", ".join(_format_value(radiance, d, radiance[d].values[i]
+                                   if d in radiance.coords else i) for d, i in fixed.items())
     radiance = radiance.isel(fixed)
     all_azimuths = np.asarray(radiance["view_azimuth"].values, dtype=float)
     if azimuths is None:
@@ -260,8 +270,8 @@ def radiance_by_view_zenith(result: xr.Dataset, *, top_level: int = 0,
     for ax, (direction, level, title) in zip(axes, panels, strict=True):
         level_value = radiance["level"].values[level]
         for number, azimuth in enumerate(chosen):
-            line = radiance.sel(direction=direction, view_azimuth=azimuth,
-                                method="nearest").isel(level=level)
+            line = radiance.sel(direction=direction).sel(
+                view_azimuth=azimuth, method="nearest").isel(level=level)
             ax.plot(line["view_zenith"], line, styles[number % len(styles)],
                     color=colours[number], marker="o", markersize=3,
                     label=f"azimuth {azimuth:g}°")
@@ -270,8 +280,8 @@ def radiance_by_view_zenith(result: xr.Dataset, *, top_level: int = 0,
         ax.set_xlabel("view zenith [degrees]", fontsize=9)
         ax.set_xlim(0, 90)
         ax.set_xticks([0, 15, 30, 45, 60, 75, 90])
-    axes[0].set_ylabel(_label(result["radiance"], "radiance"), fontsize=9)
-    axes[0].legend(fontsize=7, frameon=False)
+    axes[0].set_ylabel(f"radiance{_units(result['radiance'])}", fontsize=9)
+    axes[0].legend(fontsize=8, frameon=False)
     heading = str(result.attrs.get("title", ""))
     heading = f"{heading} ({note})" if heading and note else heading or note
     if heading:
@@ -318,7 +328,7 @@ def spectrum(result: xr.Dataset, *, path: str | os.PathLike[str] | None = None) 
             "absorbed in the atmosphere": ((incident - top["flux_up"])
                                            - (down_bottom - bottom["flux_up"])) / incident,
         }
-    figure, axes = _figure(1, width=6.4, height=4.0)
+    figure, axes = _figure(1, width=6.0, height=4.0)
     ax = axes[0]
     colours = ["#b03a2e", "#1f618d", "#7d6608"]
     sample = fractions["reflected at the top"]
@@ -327,21 +337,24 @@ def spectrum(result: xr.Dataset, *, path: str | os.PathLike[str] | None = None) 
     styles = ["-", "--", ":"]
     count = min(sample.sizes[series], 3) if series is not None else 1
     x = np.asarray(result[dim].values, dtype=float)
+    handles = []
     for (name, fraction), colour in zip(fractions.items(), colours, strict=True):
         fraction = fraction.isel(fixed)
         for number in range(count):
             line = fraction.isel({series: number}) if series is not None else fraction
-            label = name
-            if series is not None:
-                value = result[series].values[number] if series in result.coords else number
-                label = f"{name}, {_format_value(series, value)}"
             ax.plot(x, np.asarray(line.transpose(dim, ...)).reshape(x.size, -1)[:, 0],
-                    styles[number], color=colour, linewidth=1.5, label=label)
-    units = result[dim].attrs.get("units", "")
-    ax.set_xlabel(f"{dim} [{units}]" if units else dim, fontsize=9)
+                    styles[number], color=colour, linewidth=1.5)
+        handles.append(Line2D([], [], color=colour, linewidth=1.5, label=name))
+    if series is not None and count > 1:  # line styles tell the series values apart
+        for number in range(count):
+            value = result[series].values[number] if series in result.coords else number
+            handles.append(Line2D([], [], linestyle=styles[number], color="0.3",
+                                  label=_format_value(result, series, value)))
+    ax.set_xlabel(f"{dim}{_units(result[dim])}", fontsize=9)
     ax.set_ylabel("fraction of the downward flux at the top", fontsize=9)
-    ax.set_ylim(bottom=min(0.0, float(np.nanmin(ax.get_ylim()))))
-    ax.legend(fontsize=7, frameon=False, ncols=1 if count == 1 else 2)
+    low, high = ax.get_ylim()
+    ax.set_ylim(min(0.0, low), max(1.0, high))
+    figure.legend(handles=handles, loc="outside right center", fontsize=8, frameon=False)
     heading = str(result.attrs.get("title", ""))
     if heading:
         figure.suptitle(heading, fontsize=10)
