@@ -143,6 +143,12 @@ def make_atmosphere(
     for name, value in (("pressure", pressure), ("altitude", altitude)):
         if value is not None:
             data[name] = _as_dataarray(value, name, ["level"], None)
+    for name in ("temperature", "pressure", "altitude"):
+        if name in data and data[name].sizes["level"] != nlayer + 1:
+            raise ValueError(
+                f"{name} must have one value per level (layers + 1 = {nlayer + 1}); "
+                f"got {data[name].sizes['level']}"
+            )
     try:
         ds = xr.Dataset(data)
     except ValueError as error:
