@@ -1,0 +1,217 @@
+"""Tests of the lamina command, end to end in a temporary folder."""
+
+from __future__ import annotations
+
+import os
+import subprocess
+import sys
+import textwrap
+from pathlib import Path
+
+import numpy as np
+import pytest
+import xarray as xr
+
+import lamina
+from lamina.cli import main
+
+REPO = Path(__file__).resolve().parents[1]
+
+SCENARIO = """
+title = "cli test"
+[spectrum]
+wavelength = [0.45, 0.55, 0.65, 0.75, 0.85]
+[atmosphere]
+pressure = [1e3, 3e4, 1e5]
+[[atmosphere.constituent]]
+name = "air"
+optical_depth = [0.02, 0.08]
+single_scattering_albedo = 1.0
+phase = {kind = "rayleigh"}
+spectral_dependence = "rayleigh"
+[[atmosphere.constituent]]
+name = "cloud"
+optical_depth = [0.0, 4.0]
+single_scattering_albedo = 0.99
+phase = {kind = "henyey_greenstein", asymmetry_parameter = 0.8}
+[sun]
+zenith = 40
+[view]
+zenith = [0, 45]
+azimuth = [0, 180]
+[surface]
+albedo = 0.1
+[solver]
+streams = 8
+"""
+
+
+def scenario_file(tmp_path: Path, text: str = SCENARIO) -> Path:
+    path = tmp_path / "scenario.toml"
+    path.write_text(textwrap.dedent(text))
+    return path
+
+
+def test_run_writes_the_solver_result(tmp_path, capsys):
+    path = scenario_file(tmp_path)
+    output = tmp_path / "out.nc"
+    assert main(["run", str(path), "--output", str(output), "--chunk-size", "2",
+                 "--no-progress"]) == 0
+    assert capsys.readouterr().out.startswith(f"wrote {output} (")
+    from lamina.scenario import load_scenario
+
+    scenario = load_scenario(path)
+    expected = lamina.solve(scenario.build_atmosphere(), **scenario.solve_kwargs())
+    with xr.open_dataset(output) as result:
+        result.load()
+    xr.testing.assert_allclose(result, expected)
+    assert result.attrs["title"] == "cli test"
+    assert result.attrs["scenario_file"] == "scenario.toml"
+    assert result["wavelength"].attrs["units"] == "um"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["out.nc", "scenario.toml"]
+
+
+def test_run_resume_after_interruption(tmp_path, capsys, monkeypatch):
+    path = scenario_file(tmp_path)
+    output = tmp_path / "out.nc"
+    real_solve = lamina.solve
+    calls = []
+
+    def interrupted_on_second_chunk(atmosphere, **kwargs):
+        calls.append(atmosphere["wavelength"].values.tolist())
+        if len(calls) == 2:
+            raise KeyboardInterrupt
+        return real_solve(atmosphere, **kwargs)
+
+    monkeypatch.setattr(lamina, "solve", interrupted_on_second_chunk)
+    assert main(["run", str(path), "-o", str(output), "--chunk-size", "2",
+                 "--no-progress"]) == 130
+    assert capsys.readouterr().err == ("lamina run: interrupted; finished chunks are kept: "
+                                       "rerun with --resume to continue\n")
+    assert main(["run", str(path), "-o", str(output), "--chunk-size", "2"]) == 2
+    assert "holds an unfinished earlier run" in capsys.readouterr().err
+    monkeypatch.setattr(lamina, "solve", real_solve)
+    assert main(["run", str(path), "-o", str(output), "--chunk-size", "2", "--resume",
+                 "--no-progress"]) == 0
+    with xr.open_dataset(output) as result:
+        assert result.sizes["wavelength"] == 5
+
+
+@pytest.mark.parametrize(("arguments", "message"), [
+    (["run", "{scenario}", "-o", "{tmp}/missing/out.nc"],
+     "lamina run: error: cannot write {tmp}/missing/out.nc: its folder {tmp}/missing does not "
+     "exist\n"),
+    (["run", "{tmp}/absent.toml", "-o", "{tmp}/out.nc"],
+     "lamina run: error: {tmp}/absent.toml: no such scenario file\n"),
+    (["run", "{broken}", "-o", "{tmp}/out.nc"],
+     "lamina run: error: {broken}: [sun] unknown key 'zenit'; did you mean 'zenith'? (valid "
+     "keys: zenith, irradiance)\n"),
+    (["plot", "{tmp}/absent.nc"], "lamina plot: error: {tmp}/absent.nc: no such result file\n"),
+])
+def test_errors_are_one_clean_line(tmp_path, capsys, arguments, message):
+    scenario = scenario_file(tmp_path)
+    broken = tmp_path / "broken.toml"
+    broken.write_text(SCENARIO.replace("zenith = 40", "zenit = 40"))
+    fill = {"scenario": scenario, "tmp": tmp_path, "broken": broken}
+    assert main([a.format(**fill) for a in arguments]) == 2
+    captured = capsys.readouterr()
+    assert captured.err == message.format(**fill)
+    assert captured.out == ""
+
+
+def test_usage_errors(capsys):
+    assert main(["run", "x.toml"]) == 2
+    assert "the following arguments are required: --output" in capsys.readouterr().err
+    assert main(["run", "x.toml", "-o", "y.nc", "--chunk-size", "0"]) == 2
+    assert "expected a positive integer; got 0" in capsys.readouterr().err
+    assert main([]) == 2
+    assert main(["frobnicate"]) == 2
+
+
+@pytest.mark.parametrize("command", [[], ["run"], ["plot"], ["demo"], ["validate"]])
+def test_help_on_every_command(command, capsys):
+    assert main([*command, "--help"]) == 0
+    assert "usage: lamina" in capsys.readouterr().out
+
+
+def test_help_in_a_subprocess():
+    environment = dict(os.environ)
+    environment["PYTHONPATH"] = os.pathsep.join(
+        [str(REPO / "src"), *filter(None, [environment.get("PYTHONPATH")])])
+    completed = subprocess.run([sys.executable, "-m", "lamina.cli", "run", "--help"],
+                               capture_output=True, text=True, env=environment, timeout=120,
+                               check=False)
+    assert completed.returncode == 0, completed.stderr
+    assert "--resume" in completed.stdout and "--chunk-size" in completed.stdout
+    completed = subprocess.run([sys.executable, "-m", "lamina.cli", "plot", "nothing.nc"],
+                               capture_output=True, text=True, env=environment, timeout=120,
+                               check=False)
+    assert completed.returncode == 2
+    assert completed.stderr == "lamina plot: error: nothing.nc: no such result file\n"
+
+
+def test_demo_then_plot(tmp_path, capsys):
+    folder = tmp_path / "demo"
+    assert main(["demo", "--output", str(folder), "--no-progress"]) == 0
+    out = capsys.readouterr().out
+    assert out.startswith("lamina demo: Tessaly (fictional planet)")
+    assert "albedo at the top:" in out and "surface: down" in out
+    assert sorted(p.name for p in folder.iterdir()) == [
+        "demo.nc", "flux_profiles.png", "heating_rate.png", "mean_intensity.png",
+        "radiance.png", "spectrum.png"]
+    with xr.open_dataset(folder / "demo.nc") as result:
+        result.load()
+    assert {"wavelength", "sun_zenith", "view_zenith", "view_azimuth"} <= set(result.dims)
+    # energy: what the top reflects plus what the column and the ground absorb is what came in
+    # (exact bookkeeping of the fluxes lamina wrote)
+    top, bottom = result.isel(level=0), result.isel(level=-1)
+    absorbed = (top["flux_down"] - top["flux_up"]) - (bottom["flux_down"] - bottom["flux_up"])
+    np.testing.assert_allclose(absorbed, result["flux_divergence"].sum("layer"), atol=1e-12)
+    albedo = top["flux_up"] / top["flux_down"]
+    assert float(albedo.min()) > 0 and float(albedo.max()) < 1
+
+    assert main(["plot", str(folder / "demo.nc"), "--output", str(tmp_path)]) == 0
+    assert sorted(p.name for p in tmp_path.glob("*.png")) == [
+        "demo_flux_profiles.png", "demo_heating_rate.png", "demo_mean_intensity.png",
+        "demo_radiance.png", "demo_spectrum.png"]
+
+
+def test_demo_refuses_a_missing_parent(tmp_path, capsys):
+    assert main(["demo", "-o", str(tmp_path / "a" / "b")]) == 2
+    assert capsys.readouterr().err == (f"lamina demo: error: cannot write the demo to "
+                                       f"{tmp_path / 'a' / 'b'}: its folder {tmp_path / 'a'} "
+                                       "does not exist\n")
+
+
+@pytest.mark.parametrize("example", sorted((REPO / "examples").glob("*.toml")),
+                         ids=lambda p: p.stem)
+def test_examples_run(example, tmp_path, capsys):
+    output = tmp_path / f"{example.stem}.nc"
+    assert main(["run", str(example), "-o", str(output), "--no-progress"]) == 0
+    with xr.open_dataset(output) as result:
+        result.load()
+    if example.stem == "thermal_infrared":
+        assert "heating_rate" in result and result["heating_rate"].attrs["units"] == "K day-1"
+        # Second law: with a black sky above, the outgoing band flux cannot exceed that of a
+        # black body at the warmest temperature of the scenario (the 295 K surface), and it
+        # must exceed the surface's emission seen through the column's absorption alone.
+        outgoing = float(result["flux_up"].isel(level=0))
+        assert 0.05 * _black_body_band_flux(295.0, 800.0, 1250.0) < outgoing
+        assert outgoing < _black_body_band_flux(295.0, 800.0, 1250.0)
+    assert main(["plot", str(output)]) == 0
+
+
+def _black_body_band_flux(temperature: float, low: float, high: float) -> float:
+    """pi times the Planck radiance integrated over a wavenumber band in cm-1 (W m-2).
+
+    Planck's law with CODATA constants from scipy.constants, integrated by scipy.integrate.quad.
+    """
+    from scipy import constants, integrate
+
+    h, c, k = constants.h, constants.c, constants.k
+
+    def radiance(wavenumber_cm: float) -> float:  # W m-2 sr-1 per cm-1
+        nu = 100.0 * wavenumber_cm  # m-1
+        return 100.0 * 2 * h * c**2 * nu**3 / np.expm1(h * c * nu / (k * temperature))
+
+    return float(np.pi * integrate.quad(radiance, low, high)[0])
