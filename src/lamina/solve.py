@@ -214,7 +214,9 @@ def _block(
         tau_s = np.ascontiguousarray(scaled.scaled_optical_depth, dtype=np.float64)
         albedo_s = np.ascontiguousarray(scaled.scaled_single_scattering_albedo)
         moments_s = np.ascontiguousarray(scaled.scaled_phase_moments)
+        truncation = np.asarray(scaled.truncation_fraction, dtype=np.float64)
     else:
+        truncation = np.zeros_like(tau)
         tau_s, albedo_s = np.ascontiguousarray(tau), np.ascontiguousarray(albedo)
         moments_s = np.zeros((ncol, nlayer, 2 * n))
         used = min(nmom, 2 * n)
@@ -270,7 +272,7 @@ def _block(
     if nvz and nva:
         if settings["single_scattering_correction"]:
             radiance = radiance + _single_scattering_correction(
-                tau, albedo, moments, tau_s, albedo_s, moments_s, mu0, irradiance,
+                tau, albedo, moments, tau_s, albedo_s, moments_s, truncation, mu0, irradiance,
                 position_layer, position_fraction, view_cosines, view_azimuths,
             )
         outputs.append(radiance)
@@ -281,14 +283,17 @@ def _block(
 
 
 def _single_scattering_correction(
-    tau, albedo, moments, tau_s, albedo_s, moments_s, mu0, irradiance,
+    tau, albedo, moments, tau_s, albedo_s, moments_s, truncation, mu0, irradiance,
     position_layer, position_fraction, view_cosines, view_azimuths,
 ) -> np.ndarray:
-    """Exact minus truncated single-scattered radiance (Nakajima and Tanaka 1988).
+    """Exact minus truncated single-scattered radiance (TMS, Nakajima and Tanaka 1988).
 
-    The truncated part is what the discrete-ordinates solution holds: scaled layers and the
-    scaled, truncated phase function. The exact part uses the unscaled layers and every
-    supplied moment. Both are single scattering of the beam, computed in the kernel.
+    In the delta-M problem light scattered into the forward peak counts as unscattered, so
+    "singly scattered" light is light scattered once outside the peak, attenuated along the
+    scaled optical depth. Its exact value uses the full phase function (every supplied
+    moment) with the scaled optical depth and the albedo w / (1 - w f); the truncated value,
+    which the discrete-ordinates solution already holds, uses the scaled albedo and the
+    truncated, scaled phase function. Both are computed in the kernel.
     """
     ncol, nsun = mu0.shape
     # cos of the scattering angle between the beam (direction -mu0) and each view
@@ -299,29 +304,28 @@ def _single_scattering_correction(
     muv = view_cosines[None, None, None, :, None]
     sinv = np.sqrt(1.0 - muv**2)
     cosine = -sign * muv * cos0 + sinv * sin0 * np.cos(view_azimuths)[None, None, None, None, :]
-    angle = np.degrees(np.arccos(np.clip(cosine, -1.0, 1.0)))   # (col, sun, 2, vz, va)
-    shape = angle.shape[1:]
-    flat = angle.reshape(ncol, 1, -1)
+    cosine = np.clip(cosine, -1.0, 1.0)                       # (col, sun, 2, vz, va)
+    shape = cosine.shape[1:]
+    flat = cosine.reshape(ncol, 1, -1)
     exact = _phase_at(moments, flat).reshape(ncol, moments.shape[1], *shape)
     truncated = _phase_at(moments_s, flat).reshape(ncol, moments.shape[1], *shape)
+    remaining = 1.0 - albedo * truncation
+    # where w f = 1 the scaled layer is empty (t' = 0) and scatters nothing
+    albedo_exact = np.divide(albedo, remaining, out=np.zeros_like(albedo),
+                             where=remaining > 0.0)
     correction = np.zeros((ncol, nsun, position_layer.size, 2, *shape[2:]))
-    _kernel.single_scattering(
-        np.ascontiguousarray(tau), np.ascontiguousarray(albedo),
-        np.ascontiguousarray(exact), mu0, np.ascontiguousarray(irradiance, dtype=np.float64),
-        position_layer, position_fraction, view_cosines, 1.0, correction,
-    )
-    _kernel.single_scattering(
-        np.ascontiguousarray(tau_s), np.ascontiguousarray(albedo_s),
-        np.ascontiguousarray(truncated), mu0,
-        np.ascontiguousarray(irradiance, dtype=np.float64),
-        position_layer, position_fraction, view_cosines, -1.0, correction,
-    )
+    s = np.ascontiguousarray(irradiance, dtype=np.float64)
+    _kernel.single_scattering(tau_s, np.ascontiguousarray(albedo_exact),
+                              np.ascontiguousarray(exact), mu0, s, position_layer,
+                              position_fraction, view_cosines, 1.0, correction)
+    _kernel.single_scattering(tau_s, albedo_s, np.ascontiguousarray(truncated), mu0, s,
+                              position_layer, position_fraction, view_cosines, -1.0,
+                              correction)
     return correction
 
 
-def _phase_at(moments: np.ndarray, angle: np.ndarray) -> np.ndarray:
-    """P(cos T) of every layer of every column at that column's angles: (col, layer, angle)."""
-    cosine = np.cos(np.radians(angle))                        # (col, 1, k)
+def _phase_at(moments: np.ndarray, cosine: np.ndarray) -> np.ndarray:
+    """P(cos T) of every layer of every column at that column's cosines: (col, layer, k)."""
     nmom = moments.shape[-1]
     # Clenshaw-free evaluation by the three-term recurrence, vectorised over all axes
     p_prev = np.ones_like(cosine)

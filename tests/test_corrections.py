@@ -1,0 +1,82 @@
+"""Delta-M and the single-scattering correction for a forward-peaked cloud.
+
+The reference is the same cloud with 128 streams and neither delta-M nor correction: a
+Henyey-Greenstein phase function with g = 0.85 has chi_128 = 0.85**128 ~ 1e-9, so 128
+streams carry it without truncation (Henyey and Greenstein 1941 moments). The targets are
+the accuracy goals of the forward-scattering issue.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+import lamina
+
+VIEW = np.array([0.0, 20.0, 40.0, 60.0, 75.0])
+AZIMUTH = np.array([0.0, 45.0, 90.0, 135.0, 180.0])
+SUN = 30.0
+
+
+@pytest.fixture(scope="module")
+def cloud():
+    atm = lamina.make_atmosphere([4.0], [0.999], lamina.phase.henyey_greenstein(0.85, 400))
+    options = dict(sun_zenith=SUN, surface_albedo=0.0, view_zenith=VIEW,
+                   view_azimuth=AZIMUTH, fourier_tolerance=1e-8)
+    reference = lamina.solve(atm, streams=128, delta_m=False,
+                             single_scattering_correction=False, **options)
+    return atm, options, reference
+
+
+def scattering_angles(upward: bool) -> np.ndarray:
+    mu = np.cos(np.radians(VIEW))[:, None]
+    mu0 = np.cos(np.radians(SUN))
+    sign = 1.0 if upward else -1.0
+    cosine = -sign * mu * mu0 + np.sqrt(1 - mu**2) * np.sqrt(1 - mu0**2) * np.cos(
+        np.radians(AZIMUTH))[None, :]
+    return np.degrees(np.arccos(cosine))
+
+
+def errors(out, reference):
+    up = out.radiance.sel(level=0, direction="up").values
+    up_ref = reference.radiance.sel(level=0, direction="up").values
+    down = out.radiance.sel(level=1, direction="down").values
+    down_ref = reference.radiance.sel(level=1, direction="down").values
+    away_up = scattering_angles(True) < 170.0       # away from the backscatter peak
+    away_down = scattering_angles(False) > 20.0     # away from the forward peak
+    return (np.abs(up / up_ref - 1)[away_up].max(),
+            np.abs(down / down_ref - 1)[away_down].max())
+
+
+def test_reflected_radiance_with_16_streams_and_corrections_within_2_percent(cloud):
+    atm, options, reference = cloud
+    corrected = lamina.solve(atm, streams=16, **options)
+    reflected, transmitted = errors(corrected, reference)
+    assert reflected < 0.02
+    assert transmitted < 0.02
+
+
+def test_each_correction_improves_reflected_radiance(cloud):
+    atm, options, reference = cloud
+    plain = lamina.solve(atm, streams=16, delta_m=False, single_scattering_correction=False,
+                         **options)
+    scaled = lamina.solve(atm, streams=16, single_scattering_correction=False, **options)
+    corrected = lamina.solve(atm, streams=16, **options)
+    e_plain, e_scaled, e_corrected = (errors(out, reference)[0]
+                                      for out in (plain, scaled, corrected))
+    assert e_corrected < e_scaled < e_plain
+
+
+def test_fluxes_with_8_streams_within_2_percent(cloud):
+    atm, options, reference = cloud
+    out = lamina.solve(atm, streams=8, **options)
+    for name in ("flux_up", "flux_down", "mean_intensity"):
+        assert np.allclose(out[name], reference[name], rtol=0.02), name
+
+
+def test_correction_leaves_fluxes_unchanged(cloud):
+    atm, options, _ = cloud
+    with_correction = lamina.solve(atm, streams=16, **options)
+    without = lamina.solve(atm, streams=16, single_scattering_correction=False, **options)
+    for name in ("flux_up", "flux_down", "mean_intensity"):
+        assert np.array_equal(with_correction[name], without[name]), name
