@@ -25,6 +25,7 @@ from matplotlib.axes import Axes
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
+from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
 
 __all__ = [
     "flux_profiles",
@@ -109,6 +110,10 @@ def _vertical(result: xr.Dataset, vertical: str) -> str:
 def _set_vertical_axis(ax: Axes, vertical: str) -> None:
     if vertical == "pressure":
         ax.set_yscale("log")
+        # plain numbers at 1-2-5 steps read better than powers of ten for pressures
+        ax.yaxis.set_major_locator(LogLocator(subs=(1.0, 2.0, 5.0)))
+        ax.yaxis.set_major_formatter(FuncFormatter(lambda value, _: f"{value:g}"))
+        ax.yaxis.set_minor_formatter(NullFormatter())
         ax.set_ylabel("pressure [hPa]")
         ax.yaxis.set_inverted(True)
     elif vertical == "altitude":
@@ -146,6 +151,9 @@ def _profile_panels(result: xr.Dataset, names: Sequence[str], titles: Sequence[s
     present = [(n, t) for n, t in zip(names, titles, strict=True) if n in result.data_vars]
     if not present:
         raise ValueError(f"the result has none of {', '.join(names)}")
+    # an identically zero panel (the direct beam of a thermal run) says nothing: leave it out
+    drawn = [(n, t) for n, t in present if np.any(np.asarray(result[n]) != 0)]
+    present = drawn or present[:1]
     vertical = _vertical(result, vertical)
     figure, axes = _figure(len(present))
     first = result[present[0][0]]
