@@ -135,9 +135,10 @@ def test_help_on_every_command(command, capsys):
 
 
 def test_help_in_a_subprocess():
+    # the child imports the same lamina as this process (installed, or the source tree)
     environment = dict(os.environ)
     environment["PYTHONPATH"] = os.pathsep.join(
-        [str(REPO / "src"), *filter(None, [environment.get("PYTHONPATH")])])
+        [str(Path(lamina.__file__).parents[1]), *filter(None, [environment.get("PYTHONPATH")])])
     completed = subprocess.run([sys.executable, "-m", "lamina.cli", "run", "--help"],
                                capture_output=True, text=True, env=environment, timeout=120,
                                check=False)

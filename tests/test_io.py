@@ -12,38 +12,13 @@ import numpy as np
 import pytest
 import xarray as xr
 
+import lamina
 from lamina import io
 
 
-def _solve_stand_in(atmosphere: xr.Dataset, sun_zenith: float = 30.0,
-                    sun_irradiance: float | xr.DataArray = 1.0,
-                    surface_albedo: float | xr.DataArray = 0.1, **_: object) -> xr.Dataset:
-    """A cheap stand-in with lamina.solve's output schema (direct beam plus a crude diffuse).
-
-    Used where a test checks bookkeeping only; the physics is irrelevant here.
-    """
-    tau = atmosphere["optical_depth"]
-    cumulative = xr.concat([xr.zeros_like(tau.isel(layer=0)), tau.cumsum("layer")],
-                           dim="layer").rename(layer="level")
-    cumulative = cumulative.assign_coords(level=np.arange(cumulative.sizes["level"]))
-    mu0 = np.cos(np.deg2rad(sun_zenith))
-    direct = sun_irradiance * mu0 * np.exp(-cumulative / mu0)
-    ssa = atmosphere["single_scattering_albedo"].mean("layer")
-    diffuse_down = 0.5 * ssa * (sun_irradiance * mu0 - direct)
-    up = surface_albedo * (direct + diffuse_down).isel(level=-1) * np.exp(
-        -(cumulative.isel(level=-1) - cumulative))
-    out = xr.Dataset(
-        {
-            "flux_up": up.transpose(*cumulative.dims),
-            "flux_down_direct": direct,
-            "flux_down_diffuse": diffuse_down,
-        },
-        coords={"cumulative_optical_depth": cumulative},
-    )
-    for name in out.data_vars:
-        out[name].attrs = {"units": "W m-2", "long_name": name.replace("_", " ")}
-    out.attrs = {"streams": 8, "delta_m": True}
-    return out
+def _solve(atmosphere: xr.Dataset, **kwargs) -> xr.Dataset:
+    """lamina.solve with cheap settings (4 streams, fluxes only) unless told otherwise."""
+    return lamina.solve(atmosphere, **{"streams": 4, **kwargs})
 
 
 def _atmosphere(n_wavelength: int = 10, n_layers: int = 4) -> xr.Dataset:
@@ -51,19 +26,13 @@ def _atmosphere(n_wavelength: int = 10, n_layers: int = 4) -> xr.Dataset:
     wavelength = np.linspace(0.4, 1.0, n_wavelength)
     tau = rng.uniform(0.01, 1.0, (n_wavelength, n_layers))
     ssa = rng.uniform(0.5, 1.0, (n_wavelength, n_layers))
-    moments = np.broadcast_to(0.7 ** np.arange(8), (n_wavelength, n_layers, 8))
-    return xr.Dataset(
-        {
-            "optical_depth": (("wavelength", "layer"), tau),
-            "single_scattering_albedo": (("wavelength", "layer"), ssa),
-            "phase_moments": (("wavelength", "layer", "moment"), moments.copy()),
-        },
-        coords={"wavelength": ("wavelength", wavelength, {"units": "um"})},
-    )
+    moments = lamina.phase.henyey_greenstein(np.full((n_wavelength, n_layers), 0.7), 8)
+    atmosphere = lamina.make_atmosphere(tau, ssa, moments, extra_dims=("wavelength",))
+    return atmosphere.assign_coords(wavelength=("wavelength", wavelength, {"units": "um"}))
 
 
 class Counter:
-    """Wraps a solver and counts the spectral points it is asked to compute."""
+    """Wraps a solver and counts the spectral points it is asked to compute (and can fail)."""
 
     def __init__(self, solver, fail_on_call: int | None = None):
         self.solver = solver
@@ -85,33 +54,36 @@ class Counter:
 
 
 def test_netcdf_round_trip_with_attributes(tmp_path):
-    result = _solve_stand_in(_atmosphere())
+    result = _solve(_atmosphere(), sun_zenith=[20.0, 50.0], view_zenith=[0, 60],
+                    view_azimuth=[0, 180])
+    result.attrs["a_flag"] = True
     path = io.write_netcdf(result, tmp_path / "out.nc", settings={"title": "round trip"})
     with xr.open_dataset(path) as back:
         back.load()
     xr.testing.assert_allclose(back, result)
     assert back.attrs["Conventions"] == "CF-1.10"
     assert back.attrs["title"] == "round trip"
-    assert back.attrs["streams"] == 8
-    assert back.attrs["delta_m"] == 1  # netCDF has no booleans
+    assert back.attrs["streams"] == 4
+    assert back.attrs["a_flag"] == 1  # netCDF has no booleans
     import lamina
 
     assert back.attrs["lamina_version"] == lamina.__version__
     created = np.datetime64(back.attrs["date_created"].replace("+00:00", ""))
     assert abs(created - np.datetime64("now")) < np.timedelta64(1, "h")
     assert back.attrs["date_created"].endswith("+00:00")  # UTC, ISO 8601
-    for name in back.data_vars:
-        assert back[name].attrs["units"] == "W m-2"
-    assert back["wavelength"].attrs["units"] == "um"
+    for name in back.variables:
+        for key, value in result[name].attrs.items():
+            assert back[name].attrs[key] == value, (name, key)
+    assert back["flux_up"].attrs["units"] == "W m-2"
     assert [p.name for p in tmp_path.iterdir()] == ["out.nc"]
 
 
 def test_write_refuses_variables_without_units(tmp_path):
-    result = _solve_stand_in(_atmosphere())
+    result = _solve(_atmosphere())
     del result["flux_up"].attrs["units"]
     with pytest.raises(ValueError, match="variable 'flux_up' has no 'units' attribute"):
         io.write_netcdf(result, tmp_path / "out.nc")
-    result = _solve_stand_in(_atmosphere())
+    result = _solve(_atmosphere())
     del result["flux_down_direct"].attrs["long_name"]
     with pytest.raises(ValueError, match="'flux_down_direct' has no 'long_name'"):
         io.write_netcdf(result, tmp_path / "out.nc")
@@ -133,7 +105,7 @@ def test_failed_write_leaves_no_half_file(tmp_path, monkeypatch, existing):
 
     monkeypatch.setattr(xr.Dataset, "to_netcdf", half_then_fail)
     with pytest.raises(OSError, match="No space left"):
-        io.write_netcdf(_solve_stand_in(_atmosphere()), path)
+        io.write_netcdf(_solve(_atmosphere()), path)
     if existing:
         assert [p.name for p in tmp_path.iterdir()] == ["out.nc"]
         assert path.read_bytes() == b"previous complete result"
@@ -149,7 +121,7 @@ def test_interrupted_write_leaves_no_half_file(tmp_path, monkeypatch):
 
     monkeypatch.setattr(xr.Dataset, "to_netcdf", interrupted)
     with pytest.raises(KeyboardInterrupt):
-        io.write_netcdf(_solve_stand_in(_atmosphere()), tmp_path / "out.nc")
+        io.write_netcdf(_solve(_atmosphere()), tmp_path / "out.nc")
     assert list(tmp_path.iterdir()) == []
 
 
@@ -191,7 +163,7 @@ def test_check_writable_unwritable_folder(tmp_path, monkeypatch):
 
 
 def test_run_chunked_checks_the_path_before_computing(tmp_path):
-    counter = Counter(_solve_stand_in)
+    counter = Counter(_solve)
     with pytest.raises(ValueError, match="does not exist"):
         io.run_chunked(_atmosphere(), {}, tmp_path / "missing" / "out.nc", 3, solver=counter)
     assert counter.calls == 0
@@ -205,10 +177,10 @@ def test_run_chunked_checks_the_path_before_computing(tmp_path):
 @pytest.mark.parametrize("chunk_size", [1, 3, 10, 25, None])
 def test_chunked_run_equals_unchunked(tmp_path, chunk_size):
     atmosphere = _atmosphere()
-    kwargs = {"sun_zenith": 40.0, "surface_albedo": xr.DataArray(
-        np.linspace(0.0, 0.5, 10), dims=["wavelength"])}
-    expected = _solve_stand_in(atmosphere, **kwargs)
-    counter = Counter(_solve_stand_in)
+    kwargs = {"sun_zenith": [30.0, 60.0], "view_zenith": [0.0, 45.0], "view_azimuth": [0, 90],
+              "surface_albedo": xr.DataArray(np.linspace(0.0, 0.5, 10), dims=["wavelength"])}
+    expected = _solve(atmosphere, **kwargs)
+    counter = Counter(_solve)
     path = tmp_path / "out.nc"
     result = io.run_chunked(atmosphere, kwargs, path, chunk_size, progress=False,
                             solver=counter)
@@ -223,9 +195,9 @@ def test_chunked_run_equals_unchunked(tmp_path, chunk_size):
 def test_resume_after_a_kill_computes_nothing_twice(tmp_path):
     atmosphere = _atmosphere(n_wavelength=11)
     kwargs = {"sun_zenith": 20.0}
-    expected = _solve_stand_in(atmosphere, **kwargs)
+    expected = _solve(atmosphere, **kwargs)
     path = tmp_path / "out.nc"
-    killed = Counter(_solve_stand_in, fail_on_call=3)
+    killed = Counter(_solve, fail_on_call=3)
     with pytest.raises(KeyboardInterrupt):
         io.run_chunked(atmosphere, kwargs, path, 3, progress=False, solver=killed)
     parts = io.parts_folder(path)
@@ -239,7 +211,7 @@ def test_resume_after_a_kill_computes_nothing_twice(tmp_path):
     with pytest.raises(ValueError, match="holds an unfinished earlier run; pass resume=True"):
         io.run_chunked(atmosphere, kwargs, path, 3, progress=False, solver=killed)
 
-    resumed = Counter(_solve_stand_in)
+    resumed = Counter(_solve)
     result = io.run_chunked(atmosphere, kwargs, path, 3, resume=True, progress=False,
                             solver=resumed)
     xr.testing.assert_allclose(result, expected)
@@ -255,23 +227,23 @@ def test_resume_with_different_inputs_is_refused(tmp_path):
     path = tmp_path / "out.nc"
     with pytest.raises(KeyboardInterrupt):
         io.run_chunked(atmosphere, {"sun_zenith": 20.0}, path, 3, progress=False,
-                       solver=Counter(_solve_stand_in, fail_on_call=2))
+                       solver=Counter(_solve, fail_on_call=2))
     changed = atmosphere.copy(deep=True)
     changed["optical_depth"][0, 0] += 1e-9
     with pytest.raises(ValueError, match="refusing to resume .*out.nc.parts: the inputs "
                                          r"\(atmosphere, solver options"):
         io.run_chunked(changed, {"sun_zenith": 20.0}, path, 3, resume=True, progress=False,
-                       solver=_solve_stand_in)
+                       solver=_solve)
     with pytest.raises(ValueError, match="refusing to resume .*: the inputs"):
         io.run_chunked(atmosphere, {"sun_zenith": 21.0}, path, 3, resume=True,
-                       progress=False, solver=_solve_stand_in)
+                       progress=False, solver=_solve)
     with pytest.raises(ValueError, match="refusing to resume .*: the chunk size differs"):
         io.run_chunked(atmosphere, {"sun_zenith": 20.0}, path, 4, resume=True,
-                       progress=False, solver=_solve_stand_in)
+                       progress=False, solver=_solve)
     # the unchanged run still resumes
     result = io.run_chunked(atmosphere, {"sun_zenith": 20.0}, path, 3, resume=True,
-                            progress=False, solver=_solve_stand_in)
-    xr.testing.assert_allclose(result, _solve_stand_in(atmosphere, sun_zenith=20.0))
+                            progress=False, solver=_solve)
+    xr.testing.assert_allclose(result, _solve(atmosphere, sun_zenith=20.0))
 
 
 def test_resume_after_kill_between_final_write_and_cleanup(tmp_path, monkeypatch):
@@ -282,43 +254,44 @@ def test_resume_after_kill_between_final_write_and_cleanup(tmp_path, monkeypatch
         raise KeyboardInterrupt
 
     monkeypatch.setattr(io.shutil, "rmtree", killed_cleanup)
-    first = Counter(_solve_stand_in)
+    first = Counter(_solve)
     with pytest.raises(KeyboardInterrupt):
         io.run_chunked(atmosphere, {}, path, 4, progress=False, solver=first)
     monkeypatch.undo()
-    again = Counter(_solve_stand_in)
+    again = Counter(_solve)
     result = io.run_chunked(atmosphere, {}, path, 4, resume=True, progress=False, solver=again)
     assert again.calls == 0
-    xr.testing.assert_allclose(result, _solve_stand_in(atmosphere))
+    xr.testing.assert_allclose(result, _solve(atmosphere))
 
 
 def test_run_chunked_without_spectral_dim(tmp_path):
     atmosphere = _atmosphere().isel(wavelength=0, drop=True)
     result = io.run_chunked(atmosphere, {}, tmp_path / "one.nc", 2, progress=False,
-                            solver=_solve_stand_in)
-    xr.testing.assert_allclose(result, _solve_stand_in(atmosphere))
+                            solver=_solve)
+    xr.testing.assert_allclose(result, _solve(atmosphere))
 
 
 def test_run_chunked_keeps_requested_variables_and_attributes(tmp_path):
     result = io.run_chunked(_atmosphere(), {}, tmp_path / "v.nc", 4, progress=False,
                             variables=["flux_up"], attributes={"title": "subset"},
-                            solver=_solve_stand_in)
+                            solver=_solve)
     assert list(result.data_vars) == ["flux_up"]
     assert result.attrs["title"] == "subset"
     assert result.attrs["Conventions"] == "CF-1.10"
+    assert result["wavelength"].attrs["units"] == "um"  # input coordinates keep their units
 
 
 def test_run_chunked_rejects_bad_arguments(tmp_path):
     with pytest.raises(ValueError, match="chunk_size must be a positive integer; got 0"):
-        io.run_chunked(_atmosphere(), {}, tmp_path / "x.nc", 0, solver=_solve_stand_in)
+        io.run_chunked(_atmosphere(), {}, tmp_path / "x.nc", 0, solver=_solve)
     with pytest.raises(ValueError, match="dim must be a dim of the atmosphere"):
         io.run_chunked(_atmosphere(), {}, tmp_path / "x.nc", 2, dim="time",
-                       solver=_solve_stand_in)
+                       solver=_solve)
 
 
 def test_progress_bar_draws_only_when_asked(tmp_path, capsys):
     io.run_chunked(_atmosphere(), {}, tmp_path / "quiet.nc", 5, progress=True,
-                   solver=_solve_stand_in)
+                   solver=_solve)
     assert capsys.readouterr().err == ""  # stderr is not a terminal under pytest
 
     from lamina.progress import ProgressBar
@@ -343,3 +316,18 @@ def test_progress_bar_draws_only_when_asked(tmp_path, capsys):
         bar.advance(2)
     assert terminal.text.endswith("\n") and "4/4" in terminal.text
     assert terminal.text.count("\n") == 1  # one line, redrawn in place
+
+
+def test_dask_distributed_run_equals_eager():
+    """The atmosphere chunked along wavelength and solved on a two-process cluster."""
+    distributed = pytest.importorskip("distributed")
+    atmosphere = _atmosphere(n_wavelength=8)
+    kwargs = {"sun_zenith": 35.0, "view_zenith": [0.0, 60.0], "view_azimuth": [0.0, 180.0]}
+    eager = _solve(atmosphere, **kwargs)
+    lazy = _solve(atmosphere.chunk({"wavelength": 2}), **kwargs)
+    assert lazy["flux_up"].chunks is not None  # nothing computed yet
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                  dashboard_address=None) as cluster, \
+            distributed.Client(cluster):
+        computed = lazy.compute()  # the client is now the default scheduler
+    xr.testing.assert_allclose(computed, eager)

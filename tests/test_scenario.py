@@ -27,36 +27,6 @@ zenith = 30
 """
 
 
-def _make_atmosphere_stand_in(optical_depth, single_scattering_albedo, phase_moments,
-                              temperature=None, pressure=None, altitude=None, extra_dims=None):
-    """Stand-in for lamina.make_atmosphere until the solver lands (same output schema)."""
-    extra = tuple(extra_dims or ())
-
-    def array(value, core):
-        if isinstance(value, xr.DataArray):
-            return value
-        value = np.asarray(value, dtype=float)
-        return xr.DataArray(value, dims=extra[: value.ndim - len(core)] + core)
-
-    data = {"optical_depth": array(optical_depth, ("layer",)),
-            "single_scattering_albedo": array(single_scattering_albedo, ("layer",)),
-            "phase_moments": array(phase_moments, ("layer", "moment"))}
-    for name, value in (("temperature", temperature), ("pressure", pressure),
-                        ("altitude", altitude)):
-        if value is not None:
-            data[name] = array(value, ("level",))
-    return xr.Dataset(data)
-
-
-@pytest.fixture(autouse=True)
-def _solver_or_stand_in(monkeypatch):
-    import lamina
-
-    if not hasattr(lamina, "make_atmosphere"):
-        monkeypatch.setattr(lamina, "make_atmosphere", _make_atmosphere_stand_in,
-                            raising=False)
-
-
 def write(tmp_path: Path, text: str, name: str = "scenario.toml") -> Path:
     path = tmp_path / name
     path.write_text(textwrap.dedent(text))
@@ -203,11 +173,12 @@ def test_thermal_scenario(tmp_path):
 def test_tabulated_and_legendre_phase(tmp_path):
     angle = np.linspace(0, 180, 181)
     isotropic = ", ".join(["1.0"] * angle.size)
+    angles = ", ".join(map(str, angle))
     scenario = load_scenario(write(tmp_path, f"""
         [[atmosphere.constituent]]
         optical_depth = [1.0]
         single_scattering_albedo = 1.0
-        phase = {{kind = "tabulated", angle = [{", ".join(map(str, angle))}], value = [{isotropic}]}}
+        phase = {{kind = "tabulated", angle = [{angles}], value = [{isotropic}]}}
         [[atmosphere.constituent]]
         optical_depth = [1.0]
         single_scattering_albedo = 1.0
