@@ -435,3 +435,54 @@ def test_profile_file_missing(tmp_path):
 
 def test_scenario_error_is_a_value_error():
     assert issubclass(ScenarioError, ValueError)
+
+
+def test_mie_constituent_follows_mie_theory(tmp_path):
+    """A nearly monodisperse haze against single-sphere Mie efficiencies from miepython.
+
+    With a geometric standard deviation of 1.01 the radii spread by about 1 %, so the
+    distribution's optics stay within about 1 % of one sphere at the median radius; the
+    tolerance below allows 2 %.
+    """
+    miepython = pytest.importorskip("miepython")
+    scenario = load_scenario(write(tmp_path, """
+        [spectrum]
+        wavelength = [0.5, 0.8]
+        reference_wavelength = 0.65
+        [[atmosphere.constituent]]
+        optical_depth = [0.3]
+        [atmosphere.constituent.mie]
+        median_radius = 0.4
+        geometric_standard_deviation = 1.01
+        refractive_index = [1.45, 0.01]
+        [sun]
+        zenith = 0
+        [solver]
+        streams = 4
+        phase_moments = 8
+        """))
+    atmosphere = scenario.build_atmosphere()
+
+    def sphere(wavelength):  # miepython wants the diameter; absorption has imaginary < 0
+        qext, qsca, _, g = miepython.efficiencies(complex(1.45, -0.01), 0.8, wavelength)
+        return float(qext), float(qsca), float(g)
+
+    reference = sphere(0.65)
+    for index, wavelength in enumerate([0.5, 0.8]):
+        qext, qsca, g = sphere(wavelength)
+        layer = atmosphere.isel(wavelength=index, layer=0)
+        np.testing.assert_allclose(layer["optical_depth"], 0.3 * qext / reference[0], rtol=0.02)
+        np.testing.assert_allclose(layer["single_scattering_albedo"], qsca / qext, rtol=0.02)
+        np.testing.assert_allclose(layer["phase_moments"][1], g, rtol=0.02)
+
+
+def test_mie_needs_a_spectrum(tmp_path):
+    message = error_for(tmp_path, """
+        [[atmosphere.constituent]]
+        optical_depth = [0.3]
+        mie = {median_radius = 0.4, geometric_standard_deviation = 1.5, refractive_index = [1.5, 0]}
+        [sun]
+        zenith = 0
+        """)
+    assert message == ("[atmosphere.constituent #1] mie: expected a [spectrum] section to go "
+                       "with Mie optics (they depend on wavelength)")
