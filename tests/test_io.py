@@ -7,6 +7,7 @@ the physics: results of a chunked run are compared with the same solver run in o
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -254,14 +255,39 @@ def test_resume_after_kill_between_final_write_and_cleanup(tmp_path, monkeypatch
         raise KeyboardInterrupt
 
     monkeypatch.setattr(io.shutil, "rmtree", killed_cleanup)
+    monkeypatch.setattr(io.Path, "rename", lambda self, target: killed_cleanup(self))
     first = Counter(_solve)
     with pytest.raises(KeyboardInterrupt):
         io.run_chunked(atmosphere, {}, path, 4, progress=False, solver=first)
     monkeypatch.undo()
+    assert path.is_file() and io.parts_folder(path).is_dir()
     again = Counter(_solve)
     result = io.run_chunked(atmosphere, {}, path, 4, resume=True, progress=False, solver=again)
     assert again.calls == 0
     xr.testing.assert_allclose(result, _solve(atmosphere))
+
+
+def test_kill_while_removing_the_parts_leaves_a_clean_state(tmp_path, monkeypatch):
+    atmosphere = _atmosphere()
+    path = tmp_path / "out.nc"
+    real_rmtree = io.shutil.rmtree
+
+    def killed_half_way(folder):
+        files = sorted(Path(folder).iterdir())
+        for file in files[: len(files) // 2]:
+            file.unlink()
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(io.shutil, "rmtree", killed_half_way)
+    with pytest.raises(KeyboardInterrupt):
+        io.run_chunked(atmosphere, {}, path, 4, progress=False, solver=_solve)
+    monkeypatch.setattr(io.shutil, "rmtree", real_rmtree)
+    assert path.is_file() and not io.parts_folder(path).exists()
+    # a new run is not confused by the half-removed leftovers, and clears them
+    again = Counter(_solve)
+    io.run_chunked(atmosphere, {}, path, 4, progress=False, solver=again)
+    assert again.calls == 3
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["out.nc"]
 
 
 def test_run_chunked_without_spectral_dim(tmp_path):

@@ -457,7 +457,12 @@ def run_chunked(
                              compat="equals", join="exact", combine_attrs="override")
     combined.attrs.pop("date_created", None)  # write_netcdf stamps the final file
     write_netcdf(combined, target, settings=attributes)
-    # Only now is it safe to forget the parts: the whole result is on disk.
-    shutil.rmtree(folder)
+    # Only now is it safe to forget the parts: the whole result is on disk. Rename first (an
+    # atomic step) so that a kill during the removal leaves no half parts folder to trip over.
+    finished = folder.with_name(folder.name + ".finished")
+    if finished.exists():
+        shutil.rmtree(finished)
+    folder.rename(finished)
+    shutil.rmtree(finished)
     with xr.open_dataset(target) as written:
         return written.load()
