@@ -163,7 +163,7 @@ def test_thermal_scenario(tmp_path):
         """))
     kwargs = scenario.solve_kwargs()
     assert kwargs["wavenumber_band"] == (500.0, 1500.0)
-    assert kwargs["surface_temperature"] == 280.0  # default: the bottom level
+    assert "surface_temperature" not in kwargs  # lamina.solve takes the bottom level
     assert kwargs["sun_irradiance"] == 0.0  # no [sun]: a purely thermal run
     assert kwargs["top_diffuse_radiance"] == 0.0
     atmosphere = scenario.build_atmosphere()
@@ -368,7 +368,7 @@ def test_constituents_must_agree_on_layers(tmp_path):
         """)
     assert message == ("[atmosphere.constituent #2 'cloud'] optical_depth: expected layer "
                        "optical depths (top first) in [0, inf] as a list of 2 numbers (one per "
-                       "layer); got 1 numbers")
+                       "layer); got 1 number")
 
 
 def test_atmosphere_needs_exactly_one_form(tmp_path):
@@ -392,6 +392,12 @@ def test_thermal_needs_temperature(tmp_path):
     message = error_for(tmp_path, SIMPLE + "[thermal]\nwavenumber_band = [300, 200]\n")
     assert message == ("[thermal] wavenumber_band: expected a band [low, high] in cm-1 with "
                        "low < high; got [300.0, 200.0]")
+
+
+def test_surface_temperature_needs_thermal(tmp_path):
+    message = error_for(tmp_path, SIMPLE + "[surface]\ntemperature = 280\n")
+    assert message == ("[surface] temperature: expected only with a [thermal] section (the "
+                       "surface emits only in thermal runs)")
 
 
 def test_unknown_output_variable_suggests(tmp_path):

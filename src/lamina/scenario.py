@@ -294,8 +294,6 @@ class _Table:
             units = table.string("units", choices=tuple(_UNITS[quantity]))
             factor = _UNITS[quantity][units]
             value = table.raw("values", expected=expected)
-            if value is None:  # pragma: no cover - TOML has no null
-                raise table.error("values", expected)
         if _is_number(value) and scalar:
             array = np.asarray(float(value))
         elif (isinstance(value, list) and vector and value
@@ -303,7 +301,7 @@ class _Table:
             array = np.asarray(value, dtype=float)
             if length is not None and array.size != length:
                 raise ScenarioError(f"{self.where(key)}: expected {expected}; got "
-                                    f"{array.size} numbers")
+                                    f"{array.size} number{'s' if array.size != 1 else ''}")
         else:
             raise self.error(key, expected, value)
         array = array * factor
@@ -439,7 +437,8 @@ class Scenario:
         if self.wavenumber is not None:
             kwargs["wavenumber"] = self.wavenumber
         if self.wavenumber_band is not None or self.wavenumber is not None:
-            kwargs["surface_temperature"] = self.surface_temperature
+            if self.surface_temperature is not None:  # else lamina.solve takes the bottom level
+                kwargs["surface_temperature"] = self.surface_temperature
             kwargs["top_diffuse_radiance"] = self.top_diffuse_radiance
         if self.output_levels is not None:
             kwargs["output_levels"] = self.output_levels
@@ -945,12 +944,13 @@ def _parse(file: Path, data: Mapping[str, Any]) -> Scenario:
                                 "thermal band per run); split the run into one scenario per "
                                 "band")
         temperature = scenario.get("temperature")
-        if temperature is None and scenario.get("profile", {}).get("temperature") is None:
+        if temperature is None and (scenario.get("profile") or {}).get("temperature") is None:
             raise ScenarioError(f"{file}: [atmosphere] missing required key 'temperature' "
                                 "(expected level temperatures in K: [thermal] needs them)")
-        if "surface_temperature" not in scenario and temperature is not None:
-            scenario["surface_temperature"] = float(temperature[-1])
-    elif not root.has("sun"):
+    elif "surface_temperature" in scenario:
+        raise ScenarioError(f"{file}: [surface] temperature: expected only with a [thermal] "
+                            "section (the surface emits only in thermal runs)")
+    if not root.has("thermal") and not root.has("sun"):
         raise ScenarioError(f"{file}: expected a [sun] or a [thermal] section (a source of "
                             "light); got neither")
     if not root.has("sun"):
