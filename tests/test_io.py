@@ -307,6 +307,13 @@ def test_run_chunked_keeps_requested_variables_and_attributes(tmp_path):
     assert result["wavelength"].attrs["units"] == "um"  # input coordinates keep their units
 
 
+def test_run_chunked_rejects_variables_not_produced(tmp_path):
+    with pytest.raises(ValueError, match="variables: the solver produced no 'radiance' for "
+                                         "this run \\(it produced flux_up, "):
+        io.run_chunked(_atmosphere(), {}, tmp_path / "v.nc", 4, progress=False,
+                       variables=["flux_up", "radiance"], solver=_solve)
+
+
 def test_run_chunked_rejects_bad_arguments(tmp_path):
     with pytest.raises(ValueError, match="chunk_size must be a positive integer; got 0"):
         io.run_chunked(_atmosphere(), {}, tmp_path / "x.nc", 0, solver=_solve)

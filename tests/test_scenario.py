@@ -406,6 +406,9 @@ def test_unknown_output_variable_suggests(tmp_path):
                               "mean 'flux_up'?)")
     message = error_for(tmp_path, SIMPLE + '[output]\nvariables = ["radiance"]\n')
     assert message == "[output] variables: expected 'radiance' only with a [view] section"
+    message = error_for(tmp_path, SIMPLE + '[output]\nvariables = ["heating_rate"]\n')
+    assert message == ("[output] variables: expected 'heating_rate' only with level pressures "
+                       "([atmosphere] pressure)")
     assert "radiance" in OUTPUT_VARIABLES
 
 

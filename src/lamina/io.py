@@ -350,6 +350,14 @@ def _with_input_coordinate_attributes(result: xr.Dataset, atmosphere: xr.Dataset
     return result
 
 
+def _select(result: xr.Dataset, variables: Sequence[str]) -> xr.Dataset:
+    missing = [name for name in variables if name not in result.data_vars]
+    if missing:
+        raise ValueError(f"variables: the solver produced no {missing[0]!r} for this run (it "
+                         f"produced {', '.join(map(str, result.data_vars))})")
+    return result[list(variables)]
+
+
 def run_chunked(
     atmosphere: xr.Dataset,
     solve_kwargs: Mapping[str, Any],
@@ -443,7 +451,7 @@ def run_chunked(
                 kwargs = _slice_kwargs(solve_kwargs, spectral, where)
             result = _with_input_coordinate_attributes(solver(chunk, **kwargs), chunk)
             if variables is not None:
-                result = result[list(variables)]
+                result = _select(result, variables)
             write_netcdf(result, files[number])
             bar.advance()
     parts = []

@@ -457,17 +457,6 @@ class Scenario:
             attrs["comment"] = self.description
         return attrs
 
-    def select_outputs(self, result: xr.Dataset) -> xr.Dataset:
-        """Keep only the variables the scenario asks for (all when it names none)."""
-        if self.variables is None:
-            return result
-        missing = [name for name in self.variables if name not in result.data_vars]
-        if missing:
-            raise ScenarioError(
-                f"{self.path}: [output] variables: the solver produced no {missing[0]!r} "
-                f"for this scenario (it produced {', '.join(map(str, result.data_vars))})")
-        return result[list(self.variables)]
-
 
 # --------------------------------------------------------------------------------------------
 # Optics
@@ -981,6 +970,10 @@ def _parse(file: Path, data: Mapping[str, Any]) -> Scenario:
                                         f"{', '.join(OUTPUT_VARIABLES)}")
             if "radiance" in names and "view_zenith" not in scenario:
                 raise output.error("variables", "'radiance' only with a [view] section")
+            if "heating_rate" in names and "pressure" not in scenario and (
+                    scenario.get("profile") or {}).get("pressure") is None:
+                raise output.error("variables", "'heating_rate' only with level pressures "
+                                   "([atmosphere] pressure)")
             scenario["variables"] = tuple(names)
         if output.has("chunk_size"):
             scenario["chunk_size"] = output.integer("chunk_size", minimum=1)
