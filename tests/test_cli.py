@@ -216,3 +216,21 @@ def _black_body_band_flux(temperature: float, low: float, high: float) -> float:
         return 100.0 * 2 * h * c**2 * nu**3 / np.expm1(h * c * nu / (k * temperature))
 
     return float(np.pi * integrate.quad(radiance, low, high)[0])
+
+
+def test_validate_passes_its_options_to_the_suite(tmp_path, monkeypatch, capsys):
+    import lamina.validation
+
+    calls = []
+
+    def fake_suite(report=None, cases=None):
+        calls.append((report, cases))
+        return False
+
+    monkeypatch.setattr(lamina.validation, "run_suite", fake_suite, raising=False)
+    report = tmp_path / "report.md"
+    assert main(["validate", "--report", str(report), "--case", "a", "--case", "b"]) == 1
+    assert calls == [(report, ["a", "b"])]
+    assert main(["validate", "--report", str(tmp_path / "no" / "r.md")]) == 2
+    assert "cannot write" in capsys.readouterr().err
+    assert len(calls) == 1  # the report path is checked before the suite runs
