@@ -214,6 +214,15 @@ def test_tabulated_quadrature_is_exact_for_exactly_interpolated_tables():
     np.testing.assert_allclose(moments, expected, rtol=0, atol=1e-12)
 
 
+def test_tabulated_accepts_end_angles_off_by_round_off():
+    # Angles converted from radians miss 180 by an ulp or so; they are taken as exact.
+    angle = np.rad2deg(np.linspace(0.0, np.pi, 1801))
+    angle[-1] = 180.0 * (1 - 1e-15)
+    table = henyey_greenstein_function(0.7, np.cos(np.deg2rad(angle)))
+    moments = phase.from_tabulated(angle, table, 4)
+    np.testing.assert_allclose(moments, 0.7 ** np.arange(4), atol=2e-6)
+
+
 def test_tabulated_vectorised_over_leading_axes():
     angle = np.linspace(0.0, 180.0, 1801)
     cosine = np.cos(np.deg2rad(angle))

@@ -48,6 +48,9 @@ __all__ = [
 #: Default relative tolerance on the normalisation of a tabulated phase function.
 TABULATED_NORMALIZATION_TOLERANCE = 1e-2
 
+#: Round-off accepted on the end angles 0 and 180 of a table, degrees.
+_ANGLE_END_TOLERANCE = 1e-9
+
 #: Tolerance on chi_0 = 1 accepted by :func:`delta_m_scale`.
 _ZEROTH_MOMENT_TOLERANCE = 1e-6
 
@@ -293,7 +296,8 @@ def from_tabulated(
     Parameters
     ----------
     angle_deg : array_like
-        Scattering angles in degrees, 1-D, strictly increasing, from exactly 0 to 180.
+        Scattering angles in degrees, 1-D, strictly increasing, from 0 to 180 (ends
+        within 1e-9 degrees of 0 and 180 are taken as exact).
     values : array_like
         Phase function values at those angles, shape ``(..., n_angle)``; any leading axes
         are separate phase functions. Must be >= 0, normalised so that the mean over the
@@ -363,10 +367,13 @@ def from_tabulated(
             f"angle_deg must be strictly increasing; angle_deg[{index}] = {angle[index]:g} "
             f"follows {angle[index - 1]:g}"
         )
-    if angle[0] != 0.0 or angle[-1] != 180.0:
+    if abs(angle[0]) > _ANGLE_END_TOLERANCE or abs(angle[-1] - 180.0) > _ANGLE_END_TOLERANCE:
         raise ValueError(
             f"angle_deg must span 0 to 180 degrees exactly; got {angle[0]:g} to {angle[-1]:g}"
         )
+    # Snap ends that missed 0 or 180 by round-off (e.g. converted from radians).
+    angle = angle.copy()
+    angle[0], angle[-1] = 0.0, 180.0
     table = _as_real_array("values", values)
     if table.ndim == 0 or table.shape[-1] != angle.size:
         raise ValueError(
