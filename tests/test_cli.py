@@ -199,7 +199,6 @@ def test_examples_run(example, tmp_path, capsys):
         outgoing = float(result["flux_up"].isel(level=0))
         assert 0.05 * _black_body_band_flux(295.0, 800.0, 1250.0) < outgoing
         assert outgoing < _black_body_band_flux(295.0, 800.0, 1250.0)
-    assert main(["plot", str(output)]) == 0
 
 
 def _black_body_band_flux(temperature: float, low: float, high: float) -> float:
