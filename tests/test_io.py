@@ -212,9 +212,11 @@ def test_resume_after_a_kill_computes_nothing_twice(tmp_path):
     with pytest.raises(ValueError, match="holds an unfinished earlier run; pass resume=True"):
         io.run_chunked(atmosphere, kwargs, path, 3, progress=False, solver=killed)
 
+    (tmp_path / ".out.nc.x1y2.tmp").write_bytes(b"left by a final write killed outright")
     resumed = Counter(_solve)
     result = io.run_chunked(atmosphere, kwargs, path, 3, resume=True, progress=False,
                             solver=resumed)
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["out.nc"]
     xr.testing.assert_allclose(result, expected)
     assert resumed.calls == 2  # chunks 2 and 3 only
     computed = killed.points + resumed.points

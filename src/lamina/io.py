@@ -437,6 +437,10 @@ def run_chunked(
         "created": _datetime.datetime.now(_datetime.UTC).isoformat(timespec="seconds"),
     }
     _open_manifest(folder, manifest, resume)
+    if resume:
+        # temporaries of a final write that was killed outright (SIGKILL, power cut)
+        for stale in target.parent.glob(f".{target.name}.*.tmp"):
+            stale.unlink(missing_ok=True)
     files = [folder / f"part-{number:05d}.nc" for number in range(len(starts))]
     todo = [number for number, file in enumerate(files) if not file.is_file()]
     with ProgressBar(len(files), f"lamina: {spectral or 'run'} chunks",
