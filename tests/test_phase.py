@@ -21,7 +21,7 @@ def henyey_greenstein_function(g: float, cosine: np.ndarray) -> np.ndarray:
 
 
 def rayleigh_function(depolarization: float, cosine: np.ndarray) -> np.ndarray:
-    """Rayleigh phase function with depolarization (Hansen and Travis 1974, eq. 2.15)."""
+    """Rayleigh phase function with depolarization (Hansen and Travis 1974)."""
     gamma = depolarization / (2.0 - depolarization)
     return 0.75 / (1.0 + 2.0 * gamma) * ((1.0 + 3.0 * gamma) + (1.0 - gamma) * cosine**2)
 

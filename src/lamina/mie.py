@@ -7,7 +7,7 @@ wants: cross-sections, single-scattering albedo, asymmetry parameter and phase m
 
 Definitions
 -----------
-Number distribution (log-normal; e.g. Hansen and Travis 1974, section 2.1.4)::
+Number distribution (log-normal; e.g. Hansen and Travis 1974)::
 
     n(r) dr = N / (sqrt(2 pi) s r) exp(-(ln r - ln r_g)^2 / (2 s^2)) dr,   s = ln(sigma_g)
 
@@ -48,7 +48,7 @@ weakly absorbing spheres are not resolved by any such rule: they leave scatter o
 Single spheres: miepython gives Q_ext, Q_sca and g (``efficiencies_mx``) and the series
 coefficients a_n, b_n (``coefficients``); the amplitudes
 S1 = sum_n (2n+1)/(n(n+1)) (a_n pi_n + b_n tau_n), S2 likewise with pi_n and tau_n swapped
-(Bohren and Huffman 1983, eqs. 4.47 and 4.74) are summed here for all spheres at once as
+(Bohren and Huffman 1983, chapter 4) are summed here for all spheres at once as
 matrix products. The phase function of one sphere is a polynomial in mu = cos T of degree
 2 N, N the number of terms of its series (Wiscombe 1980: about x + 4.05 x^(1/3) + 2), so
 the Gauss-Legendre rule in mu with N_max + ceil(n_moments / 2) + 1 nodes projects it onto
@@ -128,7 +128,7 @@ def _size_quadrature(
 def _angular_functions(cosines: np.ndarray, n_terms: int) -> tuple[np.ndarray, np.ndarray]:
     """Mie angular functions pi_n(mu), tau_n(mu) for n = 1 .. n_terms, shape (n, angle).
 
-    Upward recurrences of Bohren and Huffman (1983), eq. 4.47: pi_0 = 0, pi_1 = 1,
+    Upward recurrences of Bohren and Huffman (1983, chapter 4): pi_0 = 0, pi_1 = 1,
     pi_n = ((2n - 1) mu pi_(n-1) - n pi_(n-2)) / (n - 1), tau_n = n mu pi_n - (n + 1) pi_(n-1).
     """
     angular_pi = np.zeros((n_terms + 1, cosines.size))
@@ -309,7 +309,7 @@ def lognormal_optics(
     order = np.arange(1, n_terms + 1)
     scale = (2.0 * order + 1.0) / (order * (order + 1.0))
     # S1 = sum_n (2n+1)/(n(n+1)) (a_n pi_n + b_n tau_n), S2 with pi and tau swapped
-    # (Bohren and Huffman 1983, eq. 4.74): one matrix product for all spheres and angles.
+    # (Bohren and Huffman 1983, chapter 4): one matrix product for all spheres and angles.
     s1 = (a_n * scale) @ angular_pi + (b_n * scale) @ angular_tau
     s2 = (a_n * scale) @ angular_tau + (b_n * scale) @ angular_pi
     intensity = 0.5 * (np.abs(s1) ** 2 + np.abs(s2) ** 2)

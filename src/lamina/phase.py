@@ -248,7 +248,7 @@ def rayleigh(depolarization: ArrayLike = 0.0, n_moments: int = 3) -> NDArray[np.
 
     References
     ----------
-    Hansen and Travis (1974), Space Sci. Rev. 16, 527, section 2.
+    Hansen and Travis (1974), Space Sci. Rev. 16, 527.
 
     Examples
     --------
@@ -556,7 +556,7 @@ def delta_m_scale(
 
     References
     ----------
-    Wiscombe (1977), J. Atmos. Sci. 34, 1408, equations (2), (13) and (14).
+    Wiscombe (1977), J. Atmos. Sci. 34, 1408.
 
     Examples
     --------
