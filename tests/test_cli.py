@@ -217,19 +217,42 @@ def _black_body_band_flux(temperature: float, low: float, high: float) -> float:
     return float(np.pi * integrate.quad(radiance, low, high)[0])
 
 
-def test_validate_passes_its_options_to_the_suite(tmp_path, monkeypatch, capsys):
+def test_validate_runs_the_named_cases(tmp_path, capsys):
+    assert main(["validate", "--case", "isothermal_enclosure", "--case",
+                 "planck_total_radiance"]) == 0
+    out = capsys.readouterr().out
+    assert out.split()[:6] == ["case", "source", "error", "kind", "tolerance", "result"]
+    assert "isothermal_enclosure" in out and out.endswith("2 of 2 cases passed\n")
+
+
+def test_validate_unknown_case_is_a_clean_error(capsys):
+    assert main(["validate", "--case", "no_such_case"]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("lamina validate: error: ") and "no_such_case" in err
+    assert err.count("\n") == 1
+
+
+def test_validate_wiring(tmp_path, monkeypatch, capsys):
     import lamina.validation
 
     calls = []
 
-    def fake_suite(report=None, cases=None):
-        calls.append((report, cases))
-        return False
+    class Failed(list):
+        passed = False
 
-    monkeypatch.setattr(lamina.validation, "run_suite", fake_suite, raising=False)
+    class Case:
+        passed = False
+
+    def fake_suite(report=None, cases=None, streams_study=True):
+        calls.append((report, cases, streams_study))
+        return Failed([Case()])
+
+    monkeypatch.setattr(lamina.validation, "run_suite", fake_suite)
+    monkeypatch.setattr(lamina.validation, "format_table", lambda results: "table")
     report = tmp_path / "report.md"
     assert main(["validate", "--report", str(report), "--case", "a", "--case", "b"]) == 1
-    assert calls == [(report, ["a", "b"])]
+    assert calls == [(report, ["a", "b"], True)]
+    assert capsys.readouterr().out == f"table\n0 of 1 cases passed\nwrote {report}\n"
     assert main(["validate", "--report", str(tmp_path / "no" / "r.md")]) == 2
     assert "cannot write" in capsys.readouterr().err
     assert len(calls) == 1  # the report path is checked before the suite runs
