@@ -146,7 +146,7 @@ def _henyey_greenstein_function(g: float, cosine: np.ndarray) -> np.ndarray:
 
 
 def _rayleigh_function(depolarization: float, cosine: np.ndarray) -> np.ndarray:
-    """Scalar Rayleigh phase function with depolarization (Hansen and Travis 1974, eq. 2.15):
+    """Scalar Rayleigh phase function with depolarization (Hansen and Travis 1974):
     3 / (4 (1 + 2 gamma)) [(1 + 3 gamma) + (1 - gamma) cos^2], gamma = rho / (2 - rho)."""
     gamma = depolarization / (2.0 - depolarization)
     return 0.75 / (1.0 + 2.0 * gamma) * ((1.0 + 3.0 * gamma) + (1.0 - gamma) * cosine**2)
@@ -256,7 +256,7 @@ def _geometric_albedo_integral(reflection: np.ndarray, mu: np.ndarray, weight: n
     """p = 2 int_0^1 R(mu, mu, backscatter) mu^2 dmu with R = pi I / (S mu0), mu0 = mu.
 
     The geometric albedo of a sphere covered by a plane-parallel medium (van de Hulst
-    1980, vol. 2, ch. 18, from the disk integral at zero phase angle).
+    1980: the disk integral at zero phase angle).
     """
     return float(2.0 * np.sum(weight * np.pi * reflection * mu))
 
@@ -301,7 +301,7 @@ _HOPF_CONSTANT = 0.710446   # Hopf 1934; Chandrasekhar 1950 (from memory)
 @functools.lru_cache(maxsize=8)
 def _milne(streams: int, frozen_settings: tuple[tuple[str, Any], ...]) -> tuple[Any, ...]:
     """A thick conservative isotropic slab lit from below by a black surface emitting B,
-    cold above: far from the bottom this is the Milne problem (Chandrasekhar 1950, ch. III).
+    cold above: far from the bottom this is the Milne problem (Chandrasekhar 1950).
     Returns the net upward flux, the depths, the mean intensities and the top radiances."""
     settings = dict(frozen_settings)
     settings["streams"] = streams
@@ -323,9 +323,9 @@ def _milne_run(settings: dict[str, Any]) -> tuple[Any, ...]:
 
 def _milne_hopf(settings: dict[str, Any]) -> Comparison:
     flux, depth, mean_intensity, _ = _milne_run(settings)
-    # J(t) = (3 F / 4 pi) (t + q(t)) (Chandrasekhar 1950, ch. III), F the net flux
+    # J(t) = (3 F / 4 pi) (t + q(t)) (Chandrasekhar 1950), F the net flux
     q = mean_intensity * 4.0 * np.pi / (3.0 * flux) - depth
-    # q(0) = 1 / sqrt(3) exactly (J(0) = sqrt(3) F / (4 pi), Chandrasekhar 1950, ch. V);
+    # q(0) = 1 / sqrt(3) exactly (J(0) = sqrt(3) F / (4 pi), Chandrasekhar 1950);
     # q(t) -> q(inf) = 0.710446 deep inside (Hopf 1934)
     compared = np.concatenate(([0], np.flatnonzero(_MILNE_DEEP)))
     expected = np.where(depth[compared] == 0.0, 1.0 / np.sqrt(3.0), _HOPF_CONSTANT)
@@ -894,7 +894,7 @@ CASES: tuple[Case, ...] = (
     Case(
         name="milne_hopf_constant",
         title="Milne problem: Hopf's q(t)",
-        source="Hopf 1934; Chandrasekhar 1950, ch. III, V (q(inf) = 0.710446, from memory)",
+        source="Hopf 1934; Chandrasekhar 1950 (q(inf) = 0.710446, from memory)",
         details="A conservative isotropic slab 400 thick lit from below (black surface "
                 "emitting, cold above). J(t) = (3 F / 4 pi)(t + q(t)); q(0) = 1/sqrt(3) "
                 "exactly and q(t) -> 0.710446 at depths 20, 30, 40. (The reference H "
@@ -1119,7 +1119,7 @@ CASES: tuple[Case, ...] = (
     Case(
         name="rayleigh_phase_moments",
         title="Rayleigh phase-function moments with depolarization",
-        source="Hansen and Travis 1974, sec. 2 (phase function with depolarization)",
+        source="Hansen and Travis 1974 (Rayleigh phase function with depolarization)",
         details="lamina.phase.rayleigh(rho) against the Legendre projection (16-point "
                 "Gauss, exact here) of 3 / (4 (1 + 2 gamma)) [(1 + 3 gamma) + (1 - gamma) "
                 "cos^2 T], "
@@ -1153,7 +1153,7 @@ CASES: tuple[Case, ...] = (
     Case(
         name="rayleigh_semi_infinite_reflection",
         title="Semi-infinite Rayleigh reflection (scalar)",
-        source="Ambartsumian 1943; Chandrasekhar 1950, ch. IV, VI (scalar, per Fourier term)",
+        source="Ambartsumian 1943; Chandrasekhar 1950 (scalar, per Fourier term)",
         details="Reflected radiance of a semi-infinite medium with the scalar Rayleigh phase "
                 "function, w = 1 and 0.9, against references.rayleigh_semi_infinite_"
                 "reflection (Ambartsumian's nonlinear equation solved per Fourier term, "
@@ -1171,7 +1171,7 @@ CASES: tuple[Case, ...] = (
     Case(
         name="rayleigh_finite_layers",
         title="Finite Rayleigh layers (scalar) against adding-doubling",
-        source="Adding-doubling, van de Hulst 1980 ch. 4; Hansen and Travis 1974 sec. 3",
+        source="Adding-doubling (van de Hulst 1980; Hansen and Travis 1974)",
         details="Rayleigh layers t = 0.1, 0.5, 1 (w = 1) and t = 0.5 (w = 0.8) over a black "
                 "surface, sun at 40 deg: reflected and diffusely transmitted radiance "
                 "(6 view zeniths x 5 azimuths) and fluxes against "
@@ -1209,7 +1209,7 @@ CASES: tuple[Case, ...] = (
     Case(
         name="henyey_greenstein_finite_layers",
         title="Finite Henyey-Greenstein layers against adding-doubling",
-        source="Adding-doubling, van de Hulst 1980 ch. 4; Henyey and Greenstein 1941",
+        source="Adding-doubling (van de Hulst 1980); Henyey and Greenstein 1941",
         details="HG layers (t, w, g) = (0.5, 0.9, 0.5), (2, 0.99, 0.75), (8, 1, 0.5) over "
                 "a black surface, sun at 40 deg, all moments down to g^l < 1e-13: "
                 "radiances and fluxes against references.doubling_reflection_transmission. "
@@ -1226,7 +1226,7 @@ CASES: tuple[Case, ...] = (
     Case(
         name="delta_m_cloud_radiance",
         title="Delta-M and single-scattering correction: g = 0.85 cloud radiances",
-        source="Wiscombe 1977; reference by adding-doubling (van de Hulst 1980 ch. 4)",
+        source="Wiscombe 1977 (delta-M); reference by adding-doubling (van de Hulst 1980)",
         details="A cloud t = 4, w = 0.999, HG g = 0.85 (130 moments, g^130 < 1e-9), sun at "
                 "30 deg, black surface: reflected and transmitted radiance at 6 view "
                 "zeniths x 5 azimuths (including near-forward directions) against doubling "
@@ -1246,7 +1246,7 @@ CASES: tuple[Case, ...] = (
     Case(
         name="delta_m_cloud_flux",
         title="Delta-M: g = 0.85 cloud fluxes",
-        source="Wiscombe 1977; reference by adding-doubling (van de Hulst 1980 ch. 4)",
+        source="Wiscombe 1977 (delta-M); reference by adding-doubling (van de Hulst 1980)",
         details="Reflected and diffusely transmitted flux of the cloud of "
                 "delta_m_cloud_radiance. Error at 8 streams; it must shrink at every step "
                 "4 -> 64 streams.",
