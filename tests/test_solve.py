@@ -270,11 +270,12 @@ def test_extra_dims_broadcast_and_equal_separate_runs():
     tau = rng.uniform(0.1, 2.0, (3, 4))
     albedo = rng.uniform(0.5, 1.0, (3, 4))
     atm = lamina.make_atmosphere(tau, albedo, hg(0.7), extra_dims=["wavelength"])
-    atm = atm.assign_coords(wavelength=[0.4, 0.6, 0.8])
+    atm = atm.assign_coords(wavelength=("wavelength", [0.4, 0.6, 0.8], {"units": "um"}))
     surface = xr.DataArray([0.1, 0.2, 0.3], dims="wavelength")
     options = dict(streams=8, sun_zenith=[20.0, 60.0], view_zenith=[0.0, 50.0],
                    view_azimuth=[0.0, 180.0])
     together = lamina.solve(atm, surface_albedo=surface, **options)
+    assert together.wavelength.attrs["units"] == "um"
     assert together.radiance.dims == ("wavelength", "sun_zenith", "level", "direction",
                                       "view_zenith", "view_azimuth")
     for i in range(3):

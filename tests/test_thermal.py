@@ -178,3 +178,18 @@ def test_thermal_options_need_temperatures():
     atm = lamina.make_atmosphere([1.0], [0.5], hg(0.5))
     with pytest.raises(ValueError, match="needs level temperatures"):
         lamina.solve(atm, wavenumber_band=BAND)
+
+
+def test_band_per_wavelength_equals_separate_runs():
+    import xarray as xr
+
+    atm = lamina.make_atmosphere(np.array([[0.5, 1.0], [2.0, 0.3]]), np.full((2, 2), 0.4),
+                                 hg(0.3), temperature=np.array([[210.0, 240.0, 280.0]] * 2),
+                                 extra_dims=["wavenumber_bin"])
+    low = xr.DataArray([500.0, 900.0], dims="wavenumber_bin")
+    high = xr.DataArray([600.0, 1000.0], dims="wavenumber_bin")
+    both = lamina.solve(atm, sun_irradiance=0.0, wavenumber_band=(low, high))
+    for i, band in enumerate([(500.0, 600.0), (900.0, 1000.0)]):
+        alone = lamina.solve(atm.isel(wavenumber_bin=i), sun_irradiance=0.0,
+                             wavenumber_band=band)
+        assert np.allclose(both.flux_up.isel(wavenumber_bin=i), alone.flux_up, rtol=1e-13)

@@ -136,32 +136,38 @@ def _planck_sources(
         surface = _option_array(surface_temperature, "surface_temperature")
         _check_option_values(surface, "surface_temperature", low=0.0)
     if wavenumber_band is not None:
-        band = as_float_array(wavenumber_band, "wavenumber_band")
-        if band.shape != (2,):
-            raise ValueError("wavenumber_band must be a pair (low, high) in cm-1; got "
-                             f"shape {band.shape}")
-        low, high = float(band[0]), float(band[1])
-        if not (np.isfinite(low) and low >= 0.0 and high > low):
-            raise ValueError(
-                f"wavenumber_band must satisfy 0 <= low < high (cm-1); got ({low:g}, {high:g})"
-            )
-
-        def function(t):
-            return planck.band_radiance(t, low, high)
-
+        if isinstance(wavenumber_band, xr.DataArray) or np.shape(wavenumber_band) != (2,):
+            if not (isinstance(wavenumber_band, tuple | list) and len(wavenumber_band) == 2):
+                raise ValueError("wavenumber_band must be a pair (low, high) in cm-1 (scalars "
+                                 "or DataArrays along the atmosphere's extra dims)")
+        low = _option_array(wavenumber_band[0], "wavenumber_band")
+        high = _option_array(wavenumber_band[1], "wavenumber_band")
+        if low.chunks is None and high.chunks is None:
+            low_values, high_values = np.broadcast_arrays(low.values, high.values)
+            bad = ~(np.isfinite(low_values) & (low_values >= 0.0) & (high_values > low_values))
+            if np.any(bad):
+                index = tuple(np.argwhere(bad)[0]) if bad.ndim else ()
+                raise ValueError(
+                    "wavenumber_band must satisfy 0 <= low < high (cm-1); got "
+                    f"({float(low_values[index]):g}, {float(high_values[index]):g})"
+                )
+        spectral = (low, high)
+        function = planck.band_radiance
         units = "W m-2 sr-1"
     else:
-        nu = float(as_float_array(wavenumber, "wavenumber"))
-        if not (np.isfinite(nu) and nu > 0.0):
-            raise ValueError(f"wavenumber must be positive and finite (cm-1); got {nu:g}")
-
-        def function(t):
-            return planck.spectral_radiance_wavenumber(t, nu)
-
+        nu = _option_array(wavenumber, "wavenumber")
+        if nu.chunks is None:
+            values = np.asarray(nu.values)
+            if not np.all(np.isfinite(values) & (values > 0.0)):
+                raise ValueError("wavenumber must be positive and finite (cm-1); got "
+                                 f"{float(values[~(np.isfinite(values) & (values > 0))][0]):g}")
+        spectral = (nu,)
+        function = planck.spectral_radiance_wavenumber
         units = "W m-2 sr-1 cm"
-    levels = xr.apply_ufunc(function, temperature, dask="parallelized",
+    levels = xr.apply_ufunc(function, temperature, *spectral, dask="parallelized",
                             output_dtypes=[np.float64])
-    bottom = xr.apply_ufunc(function, surface, dask="parallelized", output_dtypes=[np.float64])
+    bottom = xr.apply_ufunc(function, surface, *spectral, dask="parallelized",
+                            output_dtypes=[np.float64])
     return levels, bottom, units
 
 
@@ -348,11 +354,11 @@ def solve(
     surface_albedo: object = 0.1,
     view_zenith: Sequence[float] | np.ndarray | None = None,
     view_azimuth: Sequence[float] | np.ndarray | None = None,
-    wavenumber_band: tuple[float, float] | None = None,
+    wavenumber_band: tuple[object, object] | None = None,
     surface_temperature: object = None,
     top_diffuse_radiance: object = 0.0,
     *,
-    wavenumber: float | None = None,
+    wavenumber: object = None,
     output_levels: Sequence[float] | np.ndarray | None = None,
     delta_m: bool = True,
     single_scattering_correction: bool = True,
@@ -382,13 +388,15 @@ def solve(
         propagation from the vertical (0..90, with ``direction`` up or down) and azimuth of
         propagation measured from that of the beam (0 = forward-scattering side, 180 =
         backscattering side). Without them only the azimuth-independent problem is solved.
-    wavenumber_band : (float, float), optional
-        Band (cm-1) over which the Planck source is integrated (thermal emission).
+    wavenumber_band : (low, high), optional
+        Band (cm-1) over which the Planck source is integrated (thermal emission). Each
+        bound may be a DataArray along the atmosphere's extra dims (one band per
+        wavelength, say).
     surface_temperature : float or DataArray, optional
         Surface temperature in K for thermal runs; defaults to the bottom level temperature.
     top_diffuse_radiance : float or DataArray
         Isotropic radiance falling on the top of the atmosphere.
-    wavenumber : float, optional
+    wavenumber : float or DataArray, optional
         Monochromatic thermal source at this wavenumber (cm-1), radiance per cm-1.
     output_levels : list of float, optional
         Fractional level numbers at which to report, e.g. ``[0, 0.5, 3]``: 0.5 is half-way
@@ -519,6 +527,9 @@ def solve(
         out = out.isel({_SUN: 0}, drop=True)
         if zenith.ndim == 1:
             out = out.assign_coords(sun_zenith=float(zenith.values[0]))
+    for name, coordinate in atmosphere.coords.items():
+        if name in out.coords and name not in ("level", "layer") and coordinate.attrs:
+            out[name].attrs = dict(coordinate.attrs)
     out = _derived(out, atmosphere, positions, output_levels is None, gravity, heat_capacity)
     _describe(out, thermal_units, settings)
     return out
