@@ -244,9 +244,12 @@ def band_radiance(
     warm = t > 0.0
     if np.any(warm):
         tw = t[warm]
-        x_low = _SECOND_RADIATION_CONSTANT_CM * lo[warm] / tw
-        x_high = _SECOND_RADIATION_CONSTANT_CM * hi[warm] / tw
-        x_width = _SECOND_RADIATION_CONSTANT_CM * (hi[warm] - lo[warm]) / tw
+        # near T = 0 the reduced frequencies overflow to inf, which the series read as
+        # "no emission": the right limit, so the overflow is not worth a warning
+        with np.errstate(over="ignore"):
+            x_low = _SECOND_RADIATION_CONSTANT_CM * lo[warm] / tw
+            x_high = _SECOND_RADIATION_CONSTANT_CM * hi[warm] / tw
+            x_width = _SECOND_RADIATION_CONSTANT_CM * (hi[warm] - lo[warm]) / tw
         result[warm] = _BAND_PREFACTOR * tw**4 * _band_integral(x_low, x_high, x_width)
     return result
 
@@ -314,7 +317,9 @@ def spectral_radiance_wavelength(temperature: ArrayLike, wavelength_um: ArrayLik
 def _reduced_frequency(t: np.ndarray, nu_cm: np.ndarray) -> np.ndarray:
     """x = c2 nu / T, with x = inf at T = 0 (no division warning)."""
     warm = t > 0.0
-    return np.where(warm, _SECOND_RADIATION_CONSTANT_CM * nu_cm / np.where(warm, t, 1.0), np.inf)
+    with np.errstate(over="ignore"):   # T -> 0: x = inf is the right limit
+        return np.where(warm, _SECOND_RADIATION_CONSTANT_CM * nu_cm / np.where(warm, t, 1.0),
+                        np.inf)
 
 
 def _planck_shape(constant: float, base: np.ndarray, power: float, x: np.ndarray) -> np.ndarray:
