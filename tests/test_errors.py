@@ -737,10 +737,12 @@ def test_solver_error_for_a_result_that_overflows():
 def test_every_kernel_status_code_has_a_description():
     from lamina import _kernel
 
-    assert set(_kernel.STATUS_NAMES) == {1, 2, 3, 4, 5, 6, 9}
+    # the wrapper turns a status code into "<what failed> (LAPACK info <info>)": each
+    # LAPACK failure names its routine, and code 9 is the non-finite result
+    assert _kernel.STATUS_NAMES[9] == "non-finite result"
     for code, name in _kernel.STATUS_NAMES.items():
-        assert name and (code == 9 or re.search(r"\((dpotrf|dgesvd|dtrtrs|dgbtrf|dgbtrs)\)",
-                                                name)), (code, name)
+        assert isinstance(code, int) and code > 0
+        assert code == 9 or re.search(r"\(d[a-z]{4,5}\)$", name), (code, name)
 
 
 if __name__ == "__main__":
