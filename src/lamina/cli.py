@@ -141,14 +141,24 @@ def _run(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _ensure_folder(folder: Path, what: str) -> None:
+    """Make ``folder`` (one level) or say clearly why it cannot be used."""
+    if folder.exists() and not folder.is_dir():
+        raise ValueError(f"cannot write {what} to {folder}: it is a file, expected a folder")
+    if not folder.exists():
+        if not folder.parent.is_dir():
+            raise ValueError(f"cannot write {what} to {folder}: its folder {folder.parent} "
+                             "does not exist")
+        folder.mkdir()
+
+
 def _plot(args: argparse.Namespace) -> int:
     from lamina.plotting import plot_result
 
     if not args.result.is_file():
         raise ValueError(f"{args.result}: no such result file")
     folder = args.output if args.output is not None else args.result.parent
-    if not folder.is_dir():
-        raise ValueError(f"cannot write plots to {folder}: not an existing folder")
+    _ensure_folder(folder, "plots")
     try:
         result = xr.open_dataset(args.result)
     except (OSError, ValueError) as error:
@@ -195,13 +205,7 @@ def _demo(args: argparse.Namespace) -> int:
 
     start = time.monotonic()
     folder: Path = args.output
-    if folder.exists() and not folder.is_dir():
-        raise ValueError(f"cannot write the demo to {folder}: it is a file, expected a folder")
-    if not folder.exists():
-        if not folder.parent.is_dir():
-            raise ValueError(f"cannot write the demo to {folder}: its folder {folder.parent} "
-                             "does not exist")
-        folder.mkdir()
+    _ensure_folder(folder, "the demo")
     output = folder / "demo.nc"
     result = _solve_scenario(_demo_scenario(), output, None, False, not args.no_progress)
     written = plot_result(result, folder)
