@@ -221,6 +221,7 @@ def _block(
         albedo_s = np.ascontiguousarray(scaled.scaled_single_scattering_albedo)
         moments_s = np.ascontiguousarray(scaled.scaled_phase_moments)
         truncation = np.asarray(scaled.truncation_fraction, dtype=np.float64)
+        _backward_peaks(tau, albedo, moments, tau_s, albedo_s, moments_s, truncation)
     else:
         truncation = np.zeros_like(tau)
         tau_s, albedo_s = np.ascontiguousarray(tau), np.ascontiguousarray(albedo)
@@ -254,10 +255,14 @@ def _block(
     failed = np.flatnonzero(status[:, 0])
     if failed.size:
         code, layer, term, info = status[failed[0]]
+        hint = ""
+        if code in (1, 2):
+            hint = ("; the phase function truncated to the streams in use is not a valid "
+                    "(non-negative) phase function there: use delta_m=True or more streams")
         raise SolverError(
             f"the solver failed in column {failed[0]} of this block (layer {layer}, Fourier "
             f"term {term}): {_kernel.STATUS_NAMES.get(int(code), 'unknown failure')}"
-            f" (LAPACK info {info})"
+            f" (LAPACK info {info}){hint}"
         )
 
     # depths at the output positions, unscaled (the outputs' coordinate) and scaled
@@ -286,6 +291,31 @@ def _block(
     outputs.append(terms.reshape(lead))
     outputs.append(depth.reshape(*lead, npos))
     return tuple(outputs)
+
+
+def _backward_peaks(tau, albedo, moments, tau_s, albedo_s, moments_s, truncation) -> None:
+    """Replace delta-M where it does not apply: backward-peaked phase functions (in place).
+
+    Delta-M removes a forward peak (Wiscombe 1977). For a backward peak, chi_2n is also
+    large and positive, but the "scaled" moments leave [-1, 1]. Such layers keep their
+    unscaled optical properties and use the Cesaro (C, 2) means of the truncated Legendre
+    series, whose phase function is non-negative (positive summability of Legendre series
+    by Cesaro means of order 2), so that the discrete problem stays physical. The
+    single-scattering correction then restores the exact single scattering.
+    """
+    invalid = np.any(np.abs(moments_s) > 1.0 + 1e-12, axis=-1)
+    if not np.any(invalid):
+        return
+    terms = moments_s.shape[-1]
+    degree = np.arange(terms)
+    weights = (terms - degree) * (terms - degree + 1.0) / (terms * (terms + 1.0))
+    given = min(terms, moments.shape[-1])
+    damped = np.zeros(moments_s.shape)
+    damped[..., :given] = moments[..., :given] * weights[:given]
+    tau_s[invalid] = tau[invalid]
+    albedo_s[invalid] = albedo[invalid]
+    moments_s[invalid] = damped[invalid]
+    truncation[invalid] = 0.0
 
 
 def _single_scattering_correction(
@@ -493,8 +523,9 @@ def solve(
     if want_radiance:
         core_out.append([_SUN, _POSITION, "direction", "view_zenith", "view_azimuth"])
     core_out += [[], [_POSITION]]
-    sizes = {_POSITION: positions[0].size, "direction": 2, "view_zenith": view_z.size,
-             "view_azimuth": view_a.size}
+    sizes = {_POSITION: positions[0].size}
+    if want_radiance:
+        sizes.update(direction=2, view_zenith=view_z.size, view_azimuth=view_a.size)
     results = xr.apply_ufunc(
         _block, *inputs,
         input_core_dims=core_in,
