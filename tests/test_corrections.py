@@ -80,3 +80,46 @@ def test_correction_leaves_fluxes_unchanged(cloud):
     without = lamina.solve(atm, streams=16, single_scattering_correction=False, **options)
     for name in ("flux_up", "flux_down", "mean_intensity"):
         assert np.array_equal(with_correction[name], without[name]), name
+
+
+AUREOLE_VIEW = np.array([22.0, 26.0, 30.0, 34.0, 38.0, 45.0])
+AUREOLE_AZIMUTH = np.array([0.0, 10.0, 25.0])
+
+
+@pytest.fixture(scope="module")
+def aureole():
+    atm = lamina.make_atmosphere([4.0], [0.999], lamina.phase.henyey_greenstein(0.85, 400))
+    options = dict(sun_zenith=SUN, surface_albedo=0.0, view_zenith=AUREOLE_VIEW,
+                   view_azimuth=AUREOLE_AZIMUTH, fourier_tolerance=1e-8,
+                   output_levels=[1.0])
+    reference = lamina.solve(atm, streams=128, delta_m=False,
+                             single_scattering_correction=False, **options)
+    return atm, options, reference
+
+
+def aureole_error(out, reference):
+    # downward radiance below the cloud, all within 20 degrees of the beam
+    down = out.radiance.sel(direction="down").values
+    return np.abs(down / reference.radiance.sel(direction="down").values - 1).max()
+
+
+@pytest.mark.parametrize(("streams", "target"), [(8, 0.05), (16, 0.02)])
+def test_aureole_correction_fixes_radiance_near_the_sun(aureole, streams, target):
+    # below the cloud near the beam, multiple scattering inside the forward peak dominates;
+    # without the aureole correction 8 and 16 streams miss it by more than the target
+    atm, options, reference = aureole
+    without = lamina.solve(atm, streams=streams, aureole_correction=False, **options)
+    with_it = lamina.solve(atm, streams=streams, **options)
+    assert aureole_error(with_it, reference) < target < aureole_error(without, reference)
+
+
+def test_aureole_correction_is_consistent_across_layer_splits(cloud):
+    # the correction sums over the layers above each position: splitting the cloud must
+    # leave the corrected radiance as it was (up to the discrete-ordinates round-off)
+    _, options, _ = cloud
+    moments = lamina.phase.henyey_greenstein(0.85, 400)
+    one = lamina.make_atmosphere([4.0], [0.999], moments)
+    three = lamina.make_atmosphere([1.0, 2.5, 0.5], [0.999] * 3, np.stack([moments] * 3))
+    a = lamina.solve(one, streams=16, output_levels=[0.25, 1.0], **options)
+    b = lamina.solve(three, streams=16, output_levels=[1.0, 3.0], **options)
+    assert np.allclose(a.radiance, b.radiance, rtol=1e-8)

@@ -212,6 +212,12 @@ def _block(
     require_range(planck_levels, "temperature (as Planck radiance)", 0.0)
     require_range(top_radiance, "top_diffuse_radiance", 0.0)
 
+    # moments below 1e-15 everywhere beyond some order add nothing to any sum
+    significant = np.flatnonzero(np.any(np.abs(moments) > 1e-15, axis=(0, 1)))
+    keep = max(int(significant[-1]) + 1 if significant.size else 1, 1)
+    if keep < nmom:
+        moments = moments[..., :keep]
+        nmom = keep
     streams = settings["streams"]
     n = streams // 2
     mu, weights = double_gauss(streams)
@@ -286,6 +292,11 @@ def _block(
                 tau, albedo, moments, tau_s, albedo_s, moments_s, truncation, mu0, irradiance,
                 position_layer, position_fraction, view_cosines, view_azimuths,
             )
+            if settings["aureole_correction"] and np.any(truncation > 0.0):
+                radiance[:, :, :, 1] += _aureole_correction(
+                    tau, albedo, moments, truncation, mu0, irradiance, position_layer,
+                    position_fraction, view_cosines, view_azimuths, streams,
+                )
         outputs.append(radiance)
     outputs = [array.reshape(*lead, *array.shape[1:]) for array in outputs]
     outputs.append(terms.reshape(lead))
@@ -360,20 +371,74 @@ def _single_scattering_correction(
     return correction
 
 
-def _phase_at(moments: np.ndarray, cosine: np.ndarray) -> np.ndarray:
-    """P(cos T) of every layer of every column at that column's cosines: (col, layer, k)."""
+def _aureole_correction(
+    tau, albedo, moments, truncation, mu0, irradiance, position_layer, position_fraction,
+    view_cosines, view_azimuths, streams,
+) -> np.ndarray:
+    """Multiple scattering inside the forward peak, for downward radiance (small angles).
+
+    Delta-M counts light scattered into the forward peak as unscattered (a delta function
+    that no radiance sees), and the single-scattering correction adds one peak-shaped lobe
+    of weight x e^x. In the small-angle approximation (every near-forward path has the slant
+    depth t/mu0), k scatterings in the peak give the angular convolution P_peak^(k) with
+    weight x^k/k!, x = sum over the layers above of w f dt / mu0, and the convolutions
+    multiply Legendre moments. With r_l the peak's moments (1 below the truncation order,
+    chi_l / f beyond it) and R_l = sum over layers of w f dt r_l, the missing radiance is
+
+        S/(4 pi) exp(-t/mu0) sum_l (2l+1) [expm1(R_l/mu0) - (R_l/mu0) e^(A/mu0)] P_l(cos T)
+
+    with A = R_0. Its second-order term, x^2 (r^2/2 - r), is the secondary correction of
+    Nakajima and Tanaka (1988); summing all orders keeps it accurate when x is not small.
+    Returns (column, sun, position, view_zenith, view_azimuth).
+    """
+    ncol, nlayer = tau.shape
     nmom = moments.shape[-1]
-    # Clenshaw-free evaluation by the three-term recurrence, vectorised over all axes
+    peak = np.ones((ncol, nlayer, max(nmom, streams)))
+    safe = np.where(truncation > 0.0, truncation, 1.0)[..., None]
+    peak[..., streams:nmom] = np.where(truncation[..., None] > 0.0,
+                                       moments[..., streams:] / safe, 0.0)
+    peak[..., nmom:] = 0.0
+    weight = albedo * truncation * tau                                    # (col, layer)
+    above = np.concatenate([np.zeros((ncol, 1, peak.shape[-1])),
+                            np.cumsum(weight[..., None] * peak, axis=1)], axis=1)
+    partial = (position_fraction * weight[:, position_layer])[..., None] \
+        * peak[:, position_layer]
+    cumulative = above[:, position_layer] + partial                      # (col, pos, l)
+    depth = np.concatenate([np.zeros((ncol, 1)), np.cumsum(tau, axis=1)], axis=1)
+    depth = depth[:, position_layer] + position_fraction * tau[:, position_layer]
+    cos0 = mu0[:, :, None, None]                                          # (col, sun, 1, 1)
+    x = cumulative[:, None] / cos0                                        # (col, sun, pos, l)
+    total = x[..., :1]
+    attenuation = depth[:, None, :, None] / cos0
+    coefficients = (np.exp(x - attenuation) - np.exp(-attenuation)
+                    - x * np.exp(total - attenuation))
+    coefficients *= irradiance[:, :, None, None] / (4.0 * np.pi)
+    # scattering angle of each downward view direction from the beam
+    sin0 = np.sqrt(1.0 - mu0**2)[:, :, None, None]
+    muv = view_cosines[None, None, :, None]
+    cosine = muv * mu0[:, :, None, None] + np.sqrt(1.0 - muv**2) * sin0 * np.cos(
+        view_azimuths)[None, None, None, :]
+    cosine = np.clip(cosine, -1.0, 1.0)[:, :, None]                       # (col, sun, 1, vz, va)
+    return _legendre_sum(coefficients[..., None, None, :], cosine)
+
+
+def _legendre_sum(coefficients: np.ndarray, cosine: np.ndarray) -> np.ndarray:
+    """sum_l (2l+1) c_l P_l(x), coefficients on the last axis, broadcast against x."""
     p_prev = np.ones_like(cosine)
-    total = moments[..., 0:1] * p_prev
-    if nmom > 1:
-        p_curr = cosine.copy()
-        total = total + 3.0 * moments[..., 1:2] * p_curr
-        for degree in range(2, nmom):
+    total = coefficients[..., 0] * p_prev
+    if coefficients.shape[-1] > 1:
+        p_curr = cosine
+        total = total + 3.0 * coefficients[..., 1] * p_curr
+        for degree in range(2, coefficients.shape[-1]):
             p_next = ((2 * degree - 1) * cosine * p_curr - (degree - 1) * p_prev) / degree
-            total = total + (2 * degree + 1) * moments[..., degree:degree + 1] * p_next
+            total = total + (2 * degree + 1) * coefficients[..., degree] * p_next
             p_prev, p_curr = p_curr, p_next
     return total
+
+
+def _phase_at(moments: np.ndarray, cosine: np.ndarray) -> np.ndarray:
+    """P(cos T) of every layer of every column at that column's cosines: (col, layer, k)."""
+    return _legendre_sum(moments[:, :, None, :], cosine)
 
 
 def solve(
@@ -392,6 +457,7 @@ def solve(
     output_levels: Sequence[float] | np.ndarray | None = None,
     delta_m: bool = True,
     single_scattering_correction: bool = True,
+    aureole_correction: bool = True,
     fourier_tolerance: float = 1e-6,
     max_fourier_terms: int | None = None,
     gravity: float = EARTH_GRAVITY,
@@ -436,6 +502,11 @@ def solve(
     single_scattering_correction : bool
         Replace the truncated single-scattered radiance by the exact one from all moments
         (Nakajima and Tanaka 1988).
+    aureole_correction : bool
+        With delta-M and the single-scattering correction, add the light scattered several
+        times inside the forward peak to downward radiances (a small-angle sum over all
+        orders whose second-order term is the secondary correction of Nakajima and Tanaka
+        1988); it matters in the aureole around the sun seen from below a cloud.
     fourier_tolerance : float
         The azimuthal series stops after two consecutive terms that change no requested
         radiance by more than this fraction.
@@ -504,6 +575,7 @@ def solve(
     settings = {
         "streams": streams, "delta_m": bool(delta_m),
         "single_scattering_correction": bool(single_scattering_correction),
+        "aureole_correction": bool(aureole_correction),
         "fourier_tolerance": tolerance, "max_fourier_terms": max_terms,
         "thermal": thermal, "positions": positions, "view_zenith": view_z,
         "view_azimuth": view_a,
@@ -657,6 +729,7 @@ def _describe(out: xr.Dataset, thermal_units: str | None, settings: dict) -> Non
         "streams": settings["streams"],
         "delta_m": int(settings["delta_m"]),
         "single_scattering_correction": int(settings["single_scattering_correction"]),
+        "aureole_correction": int(settings["aureole_correction"]),
         "fourier_tolerance": settings["fourier_tolerance"],
         "max_fourier_terms": settings["max_fourier_terms"],
         "thermal_source": int(settings["thermal"]),
