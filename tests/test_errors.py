@@ -707,7 +707,9 @@ def test_solver_error_names_the_layer_and_the_fourier_term():
     moments = np.stack([hg(0.3, 4), hg(0.3, 4), np.array([1.0, 0.0, 0.0, 1.0])])
     atm = lamina.make_atmosphere([1.0, 0.5, 2.0], [0.5, 0.8, 1.0], moments)
     message = ("the solver failed in column 0 of this block (layer 2, Fourier term 1): "
-               "Cholesky factorisation of the difference matrix (dpotrf) (LAPACK info 2)")
+               "Cholesky factorisation of the difference matrix (dpotrf) (LAPACK info 2)"
+               "; the phase function truncated to the streams in use is not a valid (non-negative) "
+               "phase function there: use delta_m=True or more streams")
     with pytest.raises(lamina.SolverError, match=exact(message)):
         lamina.solve(atm, streams=4, delta_m=False, view_zenith=[10.0], view_azimuth=[0.0])
 
@@ -720,7 +722,9 @@ def test_solver_error_in_the_azimuth_independent_term_and_its_column():
     atm = lamina.make_atmosphere(np.ones((2, 3)), np.ones((2, 3)),
                                  np.stack([good_column, moments]), extra_dims=["wavelength"])
     message = ("the solver failed in column 1 of this block (layer 1, Fourier term 0): "
-               "Cholesky factorisation of the sum matrix (dpotrf) (LAPACK info 2)")
+               "Cholesky factorisation of the sum matrix (dpotrf) (LAPACK info 2)"
+               "; the phase function truncated to the streams in use is not a valid (non-negative) "
+               "phase function there: use delta_m=True or more streams")
     with pytest.raises(lamina.SolverError, match=exact(message)):
         lamina.solve(atm, streams=4, delta_m=False)
 
