@@ -54,8 +54,8 @@ def _option_array(value: object, name: str) -> xr.DataArray:
 
 def _check_option_values(array: xr.DataArray, name: str, **bounds: Any) -> None:
     if array.chunks is None:
-        require_range(np.asarray(array.values), name, labels=[str(d) for d in array.dims],
-                      **bounds)
+        labels = ["sun angle" if dim == _SUN else str(dim) for dim in array.dims]
+        require_range(np.asarray(array.values), name, labels=labels, **bounds)
 
 
 def _sun_geometry(sun_zenith: object) -> tuple[xr.DataArray, bool]:
@@ -261,6 +261,11 @@ def _block(
     failed = np.flatnonzero(status[:, 0])
     if failed.size:
         code, layer, term, info = status[failed[0]]
+        if code == 9:
+            raise SolverError(
+                f"the solver produced a non-finite result in column {failed[0]} of this block "
+                "(are the inputs, e.g. sun_irradiance, too large for double precision?)"
+            )
         hint = ""
         if code in (1, 2):
             hint = ("; the phase function truncated to the streams in use is not a valid "
