@@ -32,12 +32,26 @@ Method (published; the derivations are in Stamnes and Swanson 1981 and Thomas an
 * Radiances at arbitrary angles come from integrating the source function analytically
   through each layer; the removable singularities (mu = 1/k, mu = mu0) are evaluated through
   ``dexp`` which is continuous across them.
+
+Speed (``benchmarks/run.py`` measures it against the bare LAPACK calls): per Fourier term
+and layer the unavoidable work is two dpotrf and one dgesvd of n x n matrices, and per term
+one dgbtrf of the 2 n L system. Everything else is kept small beside it: K_even and K_odd
+of all layers come from one dgemm per term; every exponential of a mode or of the beam
+across a layer is computed once per term (``ek``, ``eb``) and those along the view
+directions once per column (``eu``, ``et``), the beam's layer integrals once per column
+unless the resonance shift moves mu0; output positions on a level reuse the level values.
+No call here may hand work to OpenBLAS's thread pool for small matrices (its dtrtrs always
+does, hence dtrsm / dtrsv; the batched dgemm stays under the threading threshold): the
+kernel runs in dask's or the caller's threads, and a nested pool only oversubscribes the
+cores. Every change must leave the results bit for bit the same: the triangular factors of
+nearly conservative layers are ill-conditioned (about 1e6), so even reordering a sum moves
+the outputs by up to 1e-10.
 """
 
 from libc.math cimport cos, exp, expm1, fabs, isfinite, sqrt
-from libc.string cimport memcpy, memset
-from scipy.linalg.cython_blas cimport dgemm, dtrmm
-from scipy.linalg.cython_lapack cimport dgbtrf, dgbtrs, dgesvd, dpotrf, dtrtrs
+from libc.string cimport memcpy
+from scipy.linalg.cython_blas cimport dgemm, dtrmm, dtrsm, dtrsv
+from scipy.linalg.cython_lapack cimport dgbtrf, dgbtrs, dgesvd, dpotrf
 
 from lamina._lapack_int cimport lapack_int
 
@@ -54,7 +68,6 @@ STATUS_NAMES = {
     1: "Cholesky factorisation of the difference matrix (dpotrf)",
     2: "Cholesky factorisation of the sum matrix (dpotrf)",
     3: "singular value decomposition (dgesvd)",
-    4: "triangular solve (dtrtrs)",
     5: "banded LU factorisation of the boundary-value problem (dgbtrf)",
     6: "banded solve of the boundary-value problem (dgbtrs)",
     9: "non-finite result",
@@ -69,6 +82,63 @@ cdef inline double dexp(double a, double b, double length) noexcept nogil:
     if x > 0.0:
         ratio = -expm1(-x) / x
     return exp(-low * length) * length * ratio
+
+
+cdef inline double dexp_from_zero(double b, double length) noexcept nogil:
+    """dexp(0, b, length) for b > 0, without the exp(0) (the same floating-point result)."""
+    cdef double x = b * length
+    cdef double ratio = 1.0
+    if x > 0.0:
+        ratio = -expm1(-x) / x
+    return length * ratio
+
+
+cdef inline double dexp_cached(double a, double b, double length, double exp_a,
+                               double exp_b) noexcept nogil:
+    """dexp(a, b, length) given exp(-a length) and exp(-b length) (the same result)."""
+    cdef double x = fabs(b - a) * length
+    cdef double ratio = 1.0
+    if x > 0.0:
+        ratio = -expm1(-x) / x
+    return (exp_a if a < b else exp_b) * length * ratio
+
+
+cdef inline void column_dots(const double *a, Py_ssize_t step_sum, Py_ssize_t step_out,
+                             const double *x, Py_ssize_t count, Py_ssize_t nout,
+                             double *out) noexcept nogil:
+    """out[j] = sum_i a[i step_sum + j step_out] x[i], i = 0 .. count - 1, j < nout.
+
+    Each sum runs in order of i, exactly as a plain loop would (the same rounding), but four
+    sums advance side by side so that they do not wait on one another's additions.
+    ``out`` must not overlap ``a`` or ``x``.
+    """
+    cdef Py_ssize_t i, j = 0
+    cdef double s0, s1, s2, s3, xi
+    cdef const double *a0
+    while j + 4 <= nout:
+        s0 = 0.0
+        s1 = 0.0
+        s2 = 0.0
+        s3 = 0.0
+        a0 = a + j * step_out
+        for i in range(count):
+            xi = x[i]
+            s0 = s0 + a0[i * step_sum] * xi
+            s1 = s1 + a0[i * step_sum + step_out] * xi
+            s2 = s2 + a0[i * step_sum + 2 * step_out] * xi
+            s3 = s3 + a0[i * step_sum + 3 * step_out] * xi
+        out[j] = s0
+        out[j + 1] = s1
+        out[j + 2] = s2
+        out[j + 3] = s3
+        j = j + 4
+    while j < nout:
+        s0 = 0.0
+        a0 = a + j * step_out
+        for i in range(count):
+            s0 = s0 + a0[i * step_sum] * x[i]
+        out[j] = s0
+        j = j + 1
 
 
 cdef void legendre_table(Py_ssize_t m, Py_ssize_t nl, const double *x, Py_ssize_t nx,
@@ -129,6 +199,8 @@ cdef struct Layers:
     double *b0         # [layer] Planck radiance at the layer top
     double *b1         # [layer] its slope in (scaled) optical depth
     double *ttop       # [layer][sun] beam transmittance to the layer top
+    double *ek         # [layer][n] exp(-k tau) of each mode across its layer
+    double *eb         # [layer][sun] exp(-tau / mu0), the beam across each layer
     double *coef       # [sun][2 n layer] boundary-value solution (C_k, D_k per layer)
 
 
@@ -137,9 +209,13 @@ cdef struct Scratch:
     double *lq        # [nl x n] Legendre table at quadrature
     double *lu        # [nl x nvz] Legendre table at user cosines
     double *l0        # [nl x nsun] Legendre table at sun cosines
-    double *ce        # [nl] even-parity phase coefficients of a layer
-    double *co        # [nl] odd-parity
-    double *tmp       # [nl x n]
+    double *ce        # [nl] even-parity phase coefficients of a layer (points into ceall)
+    double *co        # [nl] odd-parity (into coall)
+    double *ceall     # [layer][nl] even-parity coefficients of every layer
+    double *coall     # [layer][nl]
+    double *tall      # [layer][2 n][nl] diag(c) Aw of every layer, even then odd
+    double *kall      # [layer][2 n][n] K_even and K_odd of every layer
+    double *tmp       # [2 nl] scratch of user_sources
     double *ka        # [n x n]
     double *kb        # [n x n]
     double *zz        # [n x n]
@@ -166,6 +242,19 @@ cdef struct Scratch:
     double *iup       # [layer + 1][sun][nvz] upward user radiance at levels
     double *idn       # [layer + 1][sun][nvz]
     double *radm      # [sun][pos][2][nvz] radiance of this Fourier term
+    double *e1        # [n] exp(-k dt1) at one output position
+    double *e2        # [n] exp(-k dt2)
+    double *ones      # [n] all 1.0 (exp(-k 0))
+    double *eu        # [layer][nvz] exp(-tau / mu), a layer's transmittance along a view
+    double *et        # [layer][nvz] exp(-tau * (1 / mu)), the same as the thermal term has it
+    double *dA        # [layer][nvz][n] dexp(0, k + 1/mu, tau) (shared by up and down)
+    double *dB        # [layer][nvz][n] dexp(1/mu, k, tau)
+    double *cosm      # [nva] cos(m phi) of this Fourier term
+    double *acc       # [2 n] partial sums
+    double *bA        # [layer][sun][nvz] dexp(0, 1/mu0 + 1/mu, tau)
+    double *bB        # [layer][sun][nvz] dexp(1/mu, 1/mu0, tau)
+    double *mu0done   # [sun] the mu0 that ttop, eb (and bA, bB if beamdone) were made with
+    double *beamdone  # [sun] 1 when bA, bB hold
 
 
 cdef inline void set_status(long long[:, ::1] status, Py_ssize_t col, long long code,
@@ -176,13 +265,57 @@ cdef inline void set_status(long long[:, ::1] status, Py_ssize_t col, long long 
     status[col, 3] = info
 
 
+cdef void scattering_matrices(Sizes *sz, Scratch *sc, Py_ssize_t mode,
+                              const double *moments) noexcept nogil:
+    """Phase coefficients of every layer by parity, and K_even, K_odd of all layers at once.
+
+    ``moments`` [layer][nl]. (2l + 1) chi_l for l >= m goes to ``ceall`` when l + m is even
+    and to ``coall`` when odd; K = Aw^T diag(c) Aw of every layer comes from one dgemm
+    (per-call overhead dominates 8 x 8 products) into ``kall`` [layer][even | odd][n x n].
+    """
+    cdef Py_ssize_t n = sz.n, nl = sz.nl, layer, j, l, group
+    cdef lapack_int ni = <lapack_int>n, ldi = <lapack_int>nl, nli, ncols
+    cdef double one = 1.0, zero = 0.0
+    cdef double *ce
+    cdef double *co
+    cdef char trans_n = b'N', trans_t = b'T'
+    for layer in range(sz.nlayer):
+        ce = sc.ceall + layer * nl
+        co = sc.coall + layer * nl
+        for l in range(nl):
+            ce[l] = 0.0
+            co[l] = 0.0
+            if l >= mode:
+                if (l + mode) % 2 == 0:
+                    ce[l] = (2.0 * l + 1.0) * moments[layer * nl + l]
+                else:
+                    co[l] = (2.0 * l + 1.0) * moments[layer * nl + l]
+        for j in range(n):
+            for l in range(mode, nl):
+                sc.tall[l + (2 * n * layer + j) * nl] = ce[l] * sc.aw[l + j * nl]
+                sc.tall[l + (2 * n * layer + n + j) * nl] = co[l] * sc.aw[l + j * nl]
+    # P_l^m vanishes for l < m: the sums start at l = m. In groups of layers small enough
+    # (m n k <= 2^16) that OpenBLAS keeps the product on the calling thread: its thread pool
+    # would only add hand-off cost here and compete with dask's worker threads.
+    nli = <lapack_int>(nl - mode)
+    group = max(1, 65536 // (2 * n * n * nl))
+    layer = 0
+    while layer < sz.nlayer:
+        ncols = <lapack_int>(2 * n * min(group, sz.nlayer - layer))
+        dgemm(&trans_t, &trans_n, &ni, &ncols, &nli, &one, sc.aw + mode, &ldi,
+              sc.tall + 2 * n * nl * layer + mode, &ldi, &zero, sc.kall + 2 * n * n * layer,
+              &ni)
+        layer = layer + group
+
+
 cdef int layer_eigen(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer, double w,
                      const double *mu, const double *sqw, Py_ssize_t *failed_code,
                      lapack_int *failed_info) noexcept nogil:
-    """Eigen-solution of one layer and Fourier term (coefficients already in ce / co)."""
-    cdef Py_ssize_t n = sz.n, nl = sz.nl, i, j, l, kk
-    cdef lapack_int ni = <lapack_int>n, nli = <lapack_int>nl, info = 0
-    cdef double one = 1.0, zero = 0.0, big, s, d
+    """Eigen-solution of one layer and Fourier term (after scattering_matrices)."""
+    cdef Py_ssize_t n = sz.n, i, j, kk
+    cdef lapack_int ni = <lapack_int>n, info = 0
+    cdef double one = 1.0, big, s, d
+    cdef double *kall = sc.kall + 2 * n * n * layer
     cdef double *rf = ly.rf + layer * n * n
     cdef double *lf = ly.lf + layer * n * n
     cdef double *uu = ly.uu + layer * n * n
@@ -193,19 +326,11 @@ cdef int layer_eigen(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer, doubl
     cdef char uplo_u = b'U', uplo_l = b'L', trans_n = b'N', trans_t = b'T', diag_n = b'N'
     cdef char side_l = b'L', job_a = b'A'
 
-    # K_even = Aw^T diag(ce) Aw, K_odd likewise
-    for j in range(n):
-        for l in range(nl):
-            sc.tmp[l + j * nl] = sc.ce[l] * sc.aw[l + j * nl]
-    dgemm(&trans_t, &trans_n, &ni, &ni, &nli, &one, sc.aw, &nli, sc.tmp, &nli, &zero, rf, &ni)
-    for j in range(n):
-        for l in range(nl):
-            sc.tmp[l + j * nl] = sc.co[l] * sc.aw[l + j * nl]
-    dgemm(&trans_t, &trans_n, &ni, &ni, &nli, &one, sc.aw, &nli, sc.tmp, &nli, &zero, lf, &ni)
+    # K_even = Aw^T diag(ce) Aw and K_odd, from scattering_matrices
     for j in range(n):
         for i in range(n):
-            rf[i + j * n] = (1.0 if i == j else 0.0) - w * rf[i + j * n]
-            lf[i + j * n] = (1.0 if i == j else 0.0) - w * lf[i + j * n]
+            rf[i + j * n] = (1.0 if i == j else 0.0) - w * kall[i + j * n]
+            lf[i + j * n] = (1.0 if i == j else 0.0) - w * kall[i + (n + j) * n]
     dpotrf(&uplo_u, &ni, rf, &ni, &info)
     if info != 0:
         failed_code[0] = 1
@@ -233,21 +358,17 @@ cdef int layer_eigen(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer, doubl
         failed_code[0] = 3
         failed_info[0] = info
         return 1
-    # sums s = R^-1 u_j and differences d = -L^-T v_j
+    # sums s = R^-1 u_j and differences d = -L^-T v_j. BLAS dtrsm rather than LAPACK
+    # dtrtrs: OpenBLAS runs its own dtrtrs on its thread pool even for 8 x 8 systems, and the
+    # hand-off costs far more than the solve (and oversubscribes dask worker threads). The
+    # factors come from a successful dpotrf, so their diagonals are positive (dtrtrs's only
+    # extra is a check for an exactly zero diagonal).
     memcpy(sc.ka, uu, n * n * sizeof(double))
-    dtrtrs(&uplo_u, &trans_n, &diag_n, &ni, &ni, rf, &ni, sc.ka, &ni, &info)
-    if info != 0:
-        failed_code[0] = 4
-        failed_info[0] = info
-        return 1
+    dtrsm(&side_l, &uplo_u, &trans_n, &diag_n, &ni, &ni, &one, rf, &ni, sc.ka, &ni)
     for j in range(n):
         for i in range(n):
             sc.kb[i + j * n] = vt[j + i * n]
-    dtrtrs(&uplo_l, &trans_t, &diag_n, &ni, &ni, lf, &ni, sc.kb, &ni, &info)
-    if info != 0:
-        failed_code[0] = 4
-        failed_info[0] = info
-        return 1
+    dtrsm(&side_l, &uplo_l, &trans_t, &diag_n, &ni, &ni, &one, lf, &ni, sc.kb, &ni)
     for kk in range(n):
         big = 0.0
         for i in range(n):
@@ -263,15 +384,15 @@ cdef int layer_eigen(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer, doubl
     return 0
 
 
-cdef int beam_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
-                         Py_ssize_t sun, double amplitude, double mu0,
-                         const double *sqw) noexcept nogil:
+cdef void beam_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
+                          Py_ssize_t mode, Py_ssize_t sun, double amplitude, double mu0,
+                          const double *sqw) noexcept nogil:
     """Particular solution Z e^{-(t - t_top)/mu0} for the beam source of one layer.
 
     ``amplitude`` = w S (2 - delta_m0) / (4 pi) times the beam transmittance to the top.
     """
-    cdef Py_ssize_t n = sz.n, nl = sz.nl, i, j, l
-    cdef lapack_int ni = <lapack_int>n, one_i = 1, info = 0
+    cdef Py_ssize_t n = sz.n, nl = sz.nl, i, j
+    cdef lapack_int ni = <lapack_int>n, one_i = 1
     cdef double *rf = ly.rf + layer * n * n
     cdef double *lf = ly.lf + layer * n * n
     cdef double *uu = ly.uu + layer * n * n
@@ -280,78 +401,59 @@ cdef int beam_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
     cdef double *zp = ly.zp + (layer * sz.nsun + sun) * n
     cdef double *zm = ly.zm + (layer * sz.nsun + sun) * n
     cdef double *l0 = sc.l0 + sun * nl
-    cdef double se, so, x, alpha, beta, den
+    cdef double x, alpha, beta, den
+    cdef double *acc1 = sc.acc
+    cdef double *acc2 = sc.acc + n
+    cdef double *ce_aw = sc.tall + 2 * n * nl * layer
     cdef char uplo_u = b'U', uplo_l = b'L', trans_n = b'N', trans_t = b'T', diag_n = b'N'
     if amplitude == 0.0:
         for i in range(n):
             zp[i] = 0.0
             zm[i] = 0.0
-        return 0
+        return
+    # sum_l c_l P_l^m(mu_i) sqrt(w_i) P_l^m(mu0) with diag(c) Aw from scattering_matrices
+    # (P_l^m vanishes for l < m)
+    column_dots(ce_aw + mode, 1, nl, l0 + mode, nl - mode, n, acc1)
+    column_dots(ce_aw + n * nl + mode, 1, nl, l0 + mode, nl - mode, n, acc2)
     for i in range(n):
-        se = 0.0
-        so = 0.0
-        for l in range(nl):
-            se = se + sc.ce[l] * sc.aw[l + i * nl] * l0[l]
-            so = so + sc.co[l] * sc.aw[l + i * nl] * l0[l]
-        sc.vec1[i] = 2.0 * amplitude * se      # symmetrised Q+ + Q-
-        sc.vec2[i] = -2.0 * amplitude * so     # symmetrised Q+ - Q-
-    dtrtrs(&uplo_u, &trans_t, &diag_n, &ni, &one_i, rf, &ni, sc.vec1, &ni, &info)
-    if info != 0:
-        return 4
-    dtrtrs(&uplo_l, &trans_n, &diag_n, &ni, &one_i, lf, &ni, sc.vec2, &ni, &info)
-    if info != 0:
-        return 4
+        sc.vec1[i] = 2.0 * amplitude * acc1[i]      # symmetrised Q+ + Q-
+        sc.vec2[i] = -2.0 * amplitude * acc2[i]     # symmetrised Q+ - Q-
+    dtrsv(&uplo_u, &trans_t, &diag_n, &ni, rf, &ni, sc.vec1, &one_i)
+    dtrsv(&uplo_l, &trans_n, &diag_n, &ni, lf, &ni, sc.vec2, &one_i)
     # coordinates in the singular bases: alpha = U^T a1, beta = V^T b1
+    column_dots(uu, 1, n, sc.vec1, n, n, acc1)
+    column_dots(vt, n, 1, sc.vec2, n, n, acc2)
     for j in range(n):
-        alpha = 0.0
-        beta = 0.0
-        for i in range(n):
-            alpha = alpha + uu[i + j * n] * sc.vec1[i]
-            beta = beta + vt[j + i * n] * sc.vec2[i]
+        alpha = acc1[j]
+        beta = acc2[j]
         x = mu0 * kv[j]
         den = x * x - 1.0
         sc.vec3[j] = x * (alpha * x - beta) / den       # p-hat
         sc.zz[j] = x * (beta * x - alpha) / den         # q-hat (zz as scratch)
-    for i in range(n):
-        alpha = 0.0
-        beta = 0.0
-        for j in range(n):
-            alpha = alpha + uu[i + j * n] * sc.vec3[j]
-            beta = beta + vt[j + i * n] * sc.zz[j]
-        sc.vec1[i] = alpha
-        sc.vec2[i] = beta
-    dtrtrs(&uplo_u, &trans_n, &diag_n, &ni, &one_i, rf, &ni, sc.vec1, &ni, &info)
-    if info != 0:
-        return 4
-    dtrtrs(&uplo_l, &trans_t, &diag_n, &ni, &one_i, lf, &ni, sc.vec2, &ni, &info)
-    if info != 0:
-        return 4
+    column_dots(uu, n, 1, sc.vec3, n, n, sc.vec1)
+    column_dots(vt, 1, n, sc.zz, n, n, sc.vec2)
+    dtrsv(&uplo_u, &trans_n, &diag_n, &ni, rf, &ni, sc.vec1, &one_i)
+    dtrsv(&uplo_l, &trans_t, &diag_n, &ni, lf, &ni, sc.vec2, &one_i)
     for i in range(n):
         zp[i] = 0.5 * (sc.vec1[i] + sc.vec2[i]) / sqw[i]
         zm[i] = 0.5 * (sc.vec1[i] - sc.vec2[i]) / sqw[i]
-    return 0
 
 
-cdef int thermal_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
-                            const double *mu, const double *sqw) noexcept nogil:
+cdef void thermal_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
+                             const double *mu, const double *sqw) noexcept nogil:
     """Particular solution B0 + B1 (t - t_top) +- B1 (a + b)^-1 M 1 of the linear Planck source."""
     cdef Py_ssize_t n = sz.n, i
-    cdef lapack_int ni = <lapack_int>n, one_i = 1, info = 0
+    cdef lapack_int ni = <lapack_int>n, one_i = 1
     cdef double *lf = ly.lf + layer * n * n
     cdef double b1 = ly.b1[layer], b0 = ly.b0[layer]
     cdef char uplo_l = b'L', trans_n = b'N', trans_t = b'T', diag_n = b'N'
     for i in range(n):
         sc.vec1[i] = sqw[i] * mu[i]
-    dtrtrs(&uplo_l, &trans_n, &diag_n, &ni, &one_i, lf, &ni, sc.vec1, &ni, &info)
-    if info != 0:
-        return 4
-    dtrtrs(&uplo_l, &trans_t, &diag_n, &ni, &one_i, lf, &ni, sc.vec1, &ni, &info)
-    if info != 0:
-        return 4
+    dtrsv(&uplo_l, &trans_n, &diag_n, &ni, lf, &ni, sc.vec1, &one_i)
+    dtrsv(&uplo_l, &trans_t, &diag_n, &ni, lf, &ni, sc.vec1, &one_i)
     for i in range(n):
         ly.y0p[layer * n + i] = b0 + b1 * sc.vec1[i] / sqw[i]
         ly.y0m[layer * n + i] = b0 - b1 * sc.vec1[i] / sqw[i]
-    return 0
 
 
 cdef inline void band_put(Scratch *sc, Py_ssize_t i, Py_ssize_t j, double value) noexcept nogil:
@@ -359,17 +461,21 @@ cdef inline void band_put(Scratch *sc, Py_ssize_t i, Py_ssize_t j, double value)
 
 
 cdef inline double particular_at(Sizes *sz, Layers *ly, Py_ssize_t layer, Py_ssize_t sun,
-                                 Py_ssize_t i, bint up, double dt, double secant,
+                                 Py_ssize_t i, bint up, double dt, double beam,
                                  bint thermal) noexcept nogil:
-    """Particular (beam + thermal) quadrature radiance at depth dt below a layer's top."""
+    """Particular (beam + thermal) quadrature radiance at depth dt below a layer's top.
+
+    ``beam`` = exp(-dt / mu0), the beam's attenuation from the layer top (computed once by
+    the caller for all quadrature cosines).
+    """
     cdef Py_ssize_t n = sz.n
     cdef double value
     if up:
-        value = ly.zp[(layer * sz.nsun + sun) * n + i] * exp(-dt * secant)
+        value = ly.zp[(layer * sz.nsun + sun) * n + i] * beam
         if thermal:
             value = value + ly.y0p[layer * n + i] + ly.b1[layer] * dt
     else:
-        value = ly.zm[(layer * sz.nsun + sun) * n + i] * exp(-dt * secant)
+        value = ly.zm[(layer * sz.nsun + sun) * n + i] * beam
         if thermal:
             value = value + ly.y0m[layer * n + i] + ly.b1[layer] * dt
     return value
@@ -377,22 +483,26 @@ cdef inline double particular_at(Sizes *sz, Layers *ly, Py_ssize_t layer, Py_ssi
 
 cdef inline double quadrature_radiance(Sizes *sz, Layers *ly, Py_ssize_t layer,
                                        Py_ssize_t sun, Py_ssize_t i, bint up, double dt1,
-                                       double dt2, double secant, bint thermal) noexcept nogil:
-    """Quadrature radiance of the solved Fourier term at depths dt1 below the layer top
-    (dt2 above its bottom)."""
+                                       double beam, const double *e1, const double *e2,
+                                       bint thermal) noexcept nogil:
+    """Quadrature radiance of the solved Fourier term at depth dt1 below the layer top.
+
+    The exponentials are the caller's, computed once per position: ``beam`` = exp(-dt1/mu0),
+    ``e1[k]`` = exp(-k dt1), ``e2[k]`` = exp(-k dt2) with dt2 the height above the bottom.
+    """
     cdef Py_ssize_t n = sz.n, kk
     cdef double *gp = ly.gp + layer * n * n
     cdef double *gm = ly.gm + layer * n * n
-    cdef double *kv = ly.k + layer * n
     cdef double *coef = ly.coef + sun * 2 * n * sz.nlayer + 2 * n * layer
-    cdef double value = particular_at(sz, ly, layer, sun, i, up, dt1, secant, thermal)
-    for kk in range(n):
-        if up:
-            value = value + coef[kk] * gp[i + kk * n] * exp(-kv[kk] * dt1) \
-                + coef[n + kk] * gm[i + kk * n] * exp(-kv[kk] * dt2)
-        else:
-            value = value + coef[kk] * gm[i + kk * n] * exp(-kv[kk] * dt1) \
-                + coef[n + kk] * gp[i + kk * n] * exp(-kv[kk] * dt2)
+    cdef double value = particular_at(sz, ly, layer, sun, i, up, dt1, beam, thermal)
+    if up:
+        for kk in range(n):
+            value = value + coef[kk] * gp[i + kk * n] * e1[kk] \
+                + coef[n + kk] * gm[i + kk * n] * e2[kk]
+    else:
+        for kk in range(n):
+            value = value + coef[kk] * gm[i + kk * n] * e1[kk] \
+                + coef[n + kk] * gp[i + kk * n] * e2[kk]
     return value
 
 
@@ -406,6 +516,7 @@ cdef int solve_boundary_values(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t mo
     cdef Py_ssize_t neq = 2 * n * nlay, i, j, kk, layer, row, col, s
     cdef lapack_int neqi = <lapack_int>neq, nsi = <lapack_int>nsun, info = 0
     cdef double e, refl, rp, rm, pa, pb, sec, total = 0.0
+    cdef double *eb = ly.eb
     cdef double *gp
     cdef double *gm
     cdef double *gp2
@@ -415,7 +526,22 @@ cdef int solve_boundary_values(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t mo
     cdef bint lambert = (mode == 0 and albedo > 0.0)
     cdef bint iso = (mode == 0)
     cdef char trans_n = b'N'
-    memset(sc.ab, 0, sc.ldab * neq * sizeof(double))
+    # Zero the structural zeros of the band (the last factorisation overwrote them): in the
+    # columns of layer l only the rows of its top and bottom interfaces, [2nl - n, 2nl + 3n),
+    # carry entries, and those are all written below. The kl rows kept for the fill-in of the
+    # LU need not be set.
+    for col in range(neq):
+        layer = col // (2 * n)
+        row = max(0, 2 * n * layer - n)          # first row with an entry
+        i = max(0, col - (3 * n - 1))            # first row inside the band
+        while i < row:
+            band_put(sc, i, col, 0.0)
+            i = i + 1
+        row = min(neq, 2 * n * layer + 3 * n)    # one past the last row with an entry
+        j = min(neq, col + 3 * n)                # one past the last row inside the band
+        while row < j:
+            band_put(sc, row, col, 0.0)
+            row = row + 1
     for layer in range(nlay):
         total = total + tau[layer]
     # top: downward radiance given
@@ -425,25 +551,25 @@ cdef int solve_boundary_values(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t mo
     for i in range(n):
         for kk in range(n):
             band_put(sc, i, kk, gm[i + kk * n])
-            band_put(sc, i, n + kk, gp[i + kk * n] * exp(-kv[kk] * tau[0]))
+            band_put(sc, i, n + kk, gp[i + kk * n] * ly.ek[kk])
     # interfaces
     for layer in range(nlay - 1):
         gp = ly.gp + layer * n * n
         gm = ly.gm + layer * n * n
-        kv = ly.k + layer * n
+        kv = ly.ek + layer * n
         gp2 = ly.gp + (layer + 1) * n * n
         gm2 = ly.gm + (layer + 1) * n * n
-        kv2 = ly.k + (layer + 1) * n
+        kv2 = ly.ek + (layer + 1) * n
         row = n + 2 * n * layer
         col = 2 * n * layer
         for i in range(n):
             for kk in range(n):
-                e = exp(-kv[kk] * tau[layer])
+                e = kv[kk]
                 band_put(sc, row + i, col + kk, gp[i + kk * n] * e)
                 band_put(sc, row + n + i, col + kk, gm[i + kk * n] * e)
                 band_put(sc, row + i, col + n + kk, gm[i + kk * n])
                 band_put(sc, row + n + i, col + n + kk, gp[i + kk * n])
-                e = exp(-kv2[kk] * tau[layer + 1])
+                e = kv2[kk]
                 band_put(sc, row + i, col + 2 * n + kk, -gp2[i + kk * n])
                 band_put(sc, row + n + i, col + 2 * n + kk, -gm2[i + kk * n])
                 band_put(sc, row + i, col + 3 * n + kk, -gm2[i + kk * n] * e)
@@ -452,7 +578,7 @@ cdef int solve_boundary_values(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t mo
     layer = nlay - 1
     gp = ly.gp + layer * n * n
     gm = ly.gm + layer * n * n
-    kv = ly.k + layer * n
+    kv = ly.ek + layer * n
     row = 2 * n * nlay - n
     col = 2 * n * layer
     for kk in range(n):
@@ -462,7 +588,7 @@ cdef int solve_boundary_values(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t mo
             for j in range(n):
                 rm = rm + 2.0 * albedo * wq[j] * mu[j] * gm[j + kk * n]
                 rp = rp + 2.0 * albedo * wq[j] * mu[j] * gp[j + kk * n]
-        e = exp(-kv[kk] * tau[layer])
+        e = kv[kk]
         for i in range(n):
             band_put(sc, row + i, col + kk, (gp[i + kk * n] - rm) * e)
             band_put(sc, row + i, col + n + kk, gm[i + kk * n] - rp)
@@ -475,28 +601,32 @@ cdef int solve_boundary_values(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t mo
         sec = 1.0 / sc.mu0e[s]
         for i in range(n):
             ly.coef[s * neq + i] = (top_radiance if iso else 0.0) \
-                - particular_at(sz, ly, 0, s, i, False, 0.0, sec, thermal)
+                - particular_at(sz, ly, 0, s, i, False, 0.0, 1.0, thermal)
         for layer in range(nlay - 1):
             row = n + 2 * n * layer
             for i in range(n):
                 ly.coef[s * neq + row + i] = \
-                    particular_at(sz, ly, layer + 1, s, i, True, 0.0, sec, thermal) \
-                    - particular_at(sz, ly, layer, s, i, True, tau[layer], sec, thermal)
+                    particular_at(sz, ly, layer + 1, s, i, True, 0.0, 1.0, thermal) \
+                    - particular_at(sz, ly, layer, s, i, True, tau[layer],
+                                    eb[layer * nsun + s], thermal)
                 ly.coef[s * neq + row + n + i] = \
-                    particular_at(sz, ly, layer + 1, s, i, False, 0.0, sec, thermal) \
-                    - particular_at(sz, ly, layer, s, i, False, tau[layer], sec, thermal)
+                    particular_at(sz, ly, layer + 1, s, i, False, 0.0, 1.0, thermal) \
+                    - particular_at(sz, ly, layer, s, i, False, tau[layer],
+                                    eb[layer * nsun + s], thermal)
         layer = nlay - 1
         row = 2 * n * nlay - n
         refl = 0.0
         if lambert:
             for j in range(n):
                 refl = refl + 2.0 * albedo * wq[j] * mu[j] \
-                    * particular_at(sz, ly, layer, s, j, False, tau[layer], sec, thermal)
+                    * particular_at(sz, ly, layer, s, j, False, tau[layer],
+                                    eb[layer * nsun + s], thermal)
         sc.surfbeam[s] = 0.0
         if iso:
             sc.surfbeam[s] = albedo / PI * sc.mu0e[s] * irradiance[s] * exp(-total * sec)
         for i in range(n):
-            pa = particular_at(sz, ly, layer, s, i, True, tau[layer], sec, thermal)
+            pa = particular_at(sz, ly, layer, s, i, True, tau[layer], eb[layer * nsun + s],
+                               thermal)
             pb = sc.surfbeam[s] + (surface_emission if iso else 0.0)
             ly.coef[s * neq + row + i] = pb - (pa - refl)
     dgbtrs(&trans_n, &neqi, &sc.kl, &sc.kl, &nsi, sc.ab, &sc.ldab, sc.ipiv, ly.coef, &neqi,
@@ -512,53 +642,78 @@ cdef void user_sources(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer, Py_
                        bint thermal) noexcept nogil:
     """Source-function coefficients of one layer at the user cosines (up and down)."""
     cdef Py_ssize_t n = sz.n, nl = sz.nl, nvz = sz.nvz, nsun = sz.nsun, u, j, l, kk, s
-    cdef double sp, sm, parity, a, b, amp
+    cdef double sp, sm, a, b, amp, gpj, gmj, pu, pm, c1, c2
+    cdef Py_ssize_t k2
+    cdef double *acc1 = sc.acc
+    cdef double *acc2 = sc.acc + n
     cdef double *gp = ly.gp + layer * n * n
     cdef double *gm = ly.gm + layer * n * n
     cdef double *hA = sc.hA + layer * nvz * n
     cdef double *hB = sc.hB + layer * nvz * n
+    cdef double *cu = sc.tmp              # [nl] scratch: c_l P_l^m(mu_u)
+    cdef double *cp = sc.tmp + sz.nl      # [nl] the same with the parity (-1)^(l+m)
+    cdef double *zp
+    cdef double *zm
     cdef double *l0
+    # p(mu_u, +-mu_j) = sum_l c_l P_l^m(mu_u) P_l^m(mu_j) (+-1)^(l+m); the coefficient and
+    # the parity are folded into the user-angle factor once per angle, out of the j loop
     for u in range(nvz):
+        for l in range(mode, nl):
+            cu[l] = (sc.ce[l] + sc.co[l]) * sc.lu[l + u * nl]
+            cp[l] = cu[l] if (l + mode) % 2 == 0 else -cu[l]
+        column_dots(sc.lq + mode, 1, nl, cu + mode, nl - mode, n, acc1)
+        column_dots(sc.lq + mode, 1, nl, cp + mode, nl - mode, n, acc2)
         for j in range(n):
+            sc.pup[u + j * nvz] = 0.5 * w * wq[j] * acc1[j]
+            sc.pum[u + j * nvz] = 0.5 * w * wq[j] * acc2[j]
+        for s in range(nsun):
+            l0 = sc.l0 + s * nl
             sp = 0.0
             sm = 0.0
             for l in range(mode, nl):
-                parity = 1.0 if (l + mode) % 2 == 0 else -1.0
-                a = (sc.ce[l] + sc.co[l]) * sc.lu[l + u * nl] * sc.lq[l + j * nl]
-                sp = sp + a
-                sm = sm + parity * a
-            sc.pup[u + j * nvz] = 0.5 * w * wq[j] * sp
-            sc.pum[u + j * nvz] = 0.5 * w * wq[j] * sm
+                sp = sp + cu[l] * l0[l]
+                sm = sm + cp[l] * l0[l]
+            sc.zuA[(layer * nsun + s) * nvz + u] = sm      # completed below
+            sc.zuB[(layer * nsun + s) * nvz + u] = sp
+    # hA = pup gp + pum gm, hB = pup gm + pum gp; two modes at a time (independent sums)
     for u in range(nvz):
-        for kk in range(n):
+        kk = 0
+        while kk < n:
             a = 0.0
             b = 0.0
+            c1 = 0.0
+            c2 = 0.0
+            k2 = kk + 1 if kk + 1 < n else kk
             for j in range(n):
-                a = a + sc.pup[u + j * nvz] * gp[j + kk * n] + sc.pum[u + j * nvz] * gm[j + kk * n]
-                b = b + sc.pup[u + j * nvz] * gm[j + kk * n] + sc.pum[u + j * nvz] * gp[j + kk * n]
+                pu = sc.pup[u + j * nvz]
+                pm = sc.pum[u + j * nvz]
+                gpj = gp[j + kk * n]
+                gmj = gm[j + kk * n]
+                a = a + pu * gpj + pm * gmj
+                b = b + pu * gmj + pm * gpj
+                gpj = gp[j + k2 * n]
+                gmj = gm[j + k2 * n]
+                c1 = c1 + pu * gpj + pm * gmj
+                c2 = c2 + pu * gmj + pm * gpj
             hA[u + kk * nvz] = a
             hB[u + kk * nvz] = b
+            hA[u + k2 * nvz] = c1
+            hB[u + k2 * nvz] = c2
+            kk = kk + 2
     for s in range(nsun):
-        l0 = sc.l0 + s * nl
         amp = w * irradiance[s] * (1.0 if mode == 0 else 2.0) / (4.0 * PI) \
             * ly.ttop[layer * nsun + s]
+        zp = ly.zp + (layer * nsun + s) * n
+        zm = ly.zm + (layer * nsun + s) * n
         for u in range(nvz):
             a = 0.0
             b = 0.0
             for j in range(n):
-                a = a + sc.pup[u + j * nvz] * ly.zp[(layer * nsun + s) * n + j] \
-                    + sc.pum[u + j * nvz] * ly.zm[(layer * nsun + s) * n + j]
-                b = b + sc.pup[u + j * nvz] * ly.zm[(layer * nsun + s) * n + j] \
-                    + sc.pum[u + j * nvz] * ly.zp[(layer * nsun + s) * n + j]
-            sp = 0.0
-            sm = 0.0
-            for l in range(mode, nl):
-                parity = 1.0 if (l + mode) % 2 == 0 else -1.0
-                sp = sp + (sc.ce[l] + sc.co[l]) * sc.lu[l + u * nl] * l0[l]
-                sm = sm + parity * (sc.ce[l] + sc.co[l]) * sc.lu[l + u * nl] * l0[l]
+                a = a + sc.pup[u + j * nvz] * zp[j] + sc.pum[u + j * nvz] * zm[j]
+                b = b + sc.pup[u + j * nvz] * zm[j] + sc.pum[u + j * nvz] * zp[j]
             # up (mu_u, from -mu0) uses the parity-weighted sum; down uses the plain one
-            sc.zuA[(layer * nsun + s) * nvz + u] = a + amp * sm
-            sc.zuB[(layer * nsun + s) * nvz + u] = b + amp * sp
+            sc.zuA[(layer * nsun + s) * nvz + u] = a + amp * sc.zuA[(layer * nsun + s) * nvz + u]
+            sc.zuB[(layer * nsun + s) * nvz + u] = b + amp * sc.zuB[(layer * nsun + s) * nvz + u]
     for u in range(nvz):
         a = 0.0
         b = 0.0
@@ -620,6 +775,60 @@ cdef inline double downward_partial(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize
         b1 = ly.b1[layer]
         s0 = sc.s0B[layer * nvz + u]
         value = value + (s0 + b1 * dt1 - umu * b1) - (s0 - umu * b1) * exp(-dt1 * inv)
+    return value
+
+
+cdef inline double upward_layer(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
+                                Py_ssize_t sun, Py_ssize_t u, double umu, double depth,
+                                bint thermal) noexcept nogil:
+    """upward_partial across a whole layer (dt1 = 0, dt2 = depth) from the cached integrals."""
+    cdef Py_ssize_t n = sz.n, nvz = sz.nvz, kk
+    cdef double *coef = ly.coef + sun * 2 * n * sz.nlayer + 2 * n * layer
+    cdef double *hA = sc.hA + layer * nvz * n
+    cdef double *hB = sc.hB + layer * nvz * n
+    cdef double *dA = sc.dA + (layer * nvz + u) * n
+    cdef double *dB = sc.dB + (layer * nvz + u) * n
+    cdef double inv = 1.0 / umu, value = 0.0, b1, s0
+    if depth <= 0.0:
+        return 0.0
+    for kk in range(n):
+        value = value + coef[kk] * hA[u + kk * nvz] * dA[kk] \
+            + coef[n + kk] * hB[u + kk * nvz] * dB[kk]
+    value = value + sc.zuA[(layer * sz.nsun + sun) * nvz + u] \
+        * sc.bA[(layer * sz.nsun + sun) * nvz + u]
+    value = value * inv
+    if thermal:
+        b1 = ly.b1[layer]
+        s0 = sc.s0A[layer * nvz + u]
+        value = value + (s0 + b1 * 0.0 + umu * b1) \
+            - (s0 + b1 * (0.0 + depth) + umu * b1) * sc.et[layer * nvz + u]
+    return value
+
+
+cdef inline double downward_layer(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
+                                  Py_ssize_t sun, Py_ssize_t u, double umu, double depth,
+                                  bint thermal) noexcept nogil:
+    """downward_partial across a whole layer (dt1 = depth, dt2 = 0) from the cached integrals."""
+    cdef Py_ssize_t n = sz.n, nvz = sz.nvz, kk
+    cdef double *coef = ly.coef + sun * 2 * n * sz.nlayer + 2 * n * layer
+    cdef double *hA = sc.hA + layer * nvz * n
+    cdef double *hB = sc.hB + layer * nvz * n
+    cdef double *dA = sc.dA + (layer * nvz + u) * n
+    cdef double *dB = sc.dB + (layer * nvz + u) * n
+    cdef double inv = 1.0 / umu, value = 0.0, b1, s0
+    if depth <= 0.0:
+        return 0.0
+    for kk in range(n):
+        value = value + coef[kk] * hB[u + kk * nvz] * dB[kk] \
+            + coef[n + kk] * hA[u + kk * nvz] * dA[kk]
+    value = value + sc.zuB[(layer * sz.nsun + sun) * nvz + u] \
+        * sc.bB[(layer * sz.nsun + sun) * nvz + u]
+    value = value * inv
+    if thermal:
+        b1 = ly.b1[layer]
+        s0 = sc.s0B[layer * nvz + u]
+        value = value + (s0 + b1 * depth - umu * b1) \
+            - (s0 - umu * b1) * sc.et[layer * nvz + u]
     return value
 
 
@@ -700,7 +909,7 @@ def solve_columns(
     cdef Py_ssize_t failed_code = 0
     cdef lapack_int failed_info = 0, info = 0, ni, lwork_query = -1
     cdef double w, dt1, dt2, sec, fu, fd, jm, x, closest, change, size, floor_value, cm
-    cdef double depth, sumtau, umu, value, biggest, work_size = 0.0
+    cdef double depth, sumtau, umu, inv, value, biggest, work_size = 0.0
     cdef int code
     cdef bint want_radiance
     cdef char job_a = b'A'
@@ -765,13 +974,19 @@ def solve_columns(
         "lf": nlay * n * n, "uu": nlay * n * n, "vt": nlay * n * n, "zp": nlay * nsun * n,
         "zm": nlay * nsun * n, "y0p": nlay * n, "y0m": nlay * n, "b0": nlay, "b1": nlay,
         "ttop": nlay * nsun, "coef": nsun * neq, "aw": nl * n, "lq": nl * n, "lu": nl * nvz,
-        "l0": nl * nsun, "ce": nl, "co": nl, "tmp": nl * n, "ka": n * n, "kb": n * n,
+        "l0": nl * nsun, "ceall": nlay * nl, "coall": nlay * nl,
+        "tall": 2 * n * nlay * nl, "kall": 2 * n * nlay * n, "tmp": 2 * nl, "ka": n * n,
+        "kb": n * n,
         "zz": n * n, "vec1": n, "vec2": n, "vec3": n, "ab": ldab * neq, "mu0e": nsun,
         "surfbeam": nsun, "pup": nvz * n, "pum": nvz * n, "hA": nlay * nvz * n,
         "hB": nlay * nvz * n, "zuA": nlay * nsun * nvz, "zuB": nlay * nsun * nvz,
         "s0A": nlay * nvz, "s0B": nlay * nvz, "iup": (nlay + 1) * nsun * nvz,
         "idn": (nlay + 1) * nsun * nvz, "radm": nsun * sz.npos * 2 * nvz,
         "work": int(work_size) + 8 * n, "mu": n, "wq": n, "sqw": n,
+        "ek": nlay * n, "eb": nlay * nsun, "e1": n, "e2": n, "ones": n, "eu": nlay * nvz,
+        "et": nlay * nvz, "dA": nlay * nvz * n, "dB": nlay * nvz * n,
+        "cosm": max(sz.nva, 1), "acc": 2 * n,
+        "bA": nlay * nsun * nvz, "bB": nlay * nsun * nvz, "mu0done": nsun, "beamdone": nsun,
     }
     offsets = {}
     total = 0
@@ -800,8 +1015,10 @@ def solve_columns(
     sc.lq = base + <Py_ssize_t>offsets["lq"]
     sc.lu = base + <Py_ssize_t>offsets["lu"]
     sc.l0 = base + <Py_ssize_t>offsets["l0"]
-    sc.ce = base + <Py_ssize_t>offsets["ce"]
-    sc.co = base + <Py_ssize_t>offsets["co"]
+    sc.ceall = base + <Py_ssize_t>offsets["ceall"]
+    sc.coall = base + <Py_ssize_t>offsets["coall"]
+    sc.tall = base + <Py_ssize_t>offsets["tall"]
+    sc.kall = base + <Py_ssize_t>offsets["kall"]
     sc.tmp = base + <Py_ssize_t>offsets["tmp"]
     sc.ka = base + <Py_ssize_t>offsets["ka"]
     sc.kb = base + <Py_ssize_t>offsets["kb"]
@@ -824,6 +1041,21 @@ def solve_columns(
     sc.idn = base + <Py_ssize_t>offsets["idn"]
     sc.radm = base + <Py_ssize_t>offsets["radm"]
     sc.work = base + <Py_ssize_t>offsets["work"]
+    ly.ek = base + <Py_ssize_t>offsets["ek"]
+    ly.eb = base + <Py_ssize_t>offsets["eb"]
+    sc.e1 = base + <Py_ssize_t>offsets["e1"]
+    sc.e2 = base + <Py_ssize_t>offsets["e2"]
+    sc.ones = base + <Py_ssize_t>offsets["ones"]
+    sc.eu = base + <Py_ssize_t>offsets["eu"]
+    sc.et = base + <Py_ssize_t>offsets["et"]
+    sc.dA = base + <Py_ssize_t>offsets["dA"]
+    sc.dB = base + <Py_ssize_t>offsets["dB"]
+    sc.cosm = base + <Py_ssize_t>offsets["cosm"]
+    sc.acc = base + <Py_ssize_t>offsets["acc"]
+    sc.bA = base + <Py_ssize_t>offsets["bA"]
+    sc.bB = base + <Py_ssize_t>offsets["bB"]
+    sc.mu0done = base + <Py_ssize_t>offsets["mu0done"]
+    sc.beamdone = base + <Py_ssize_t>offsets["beamdone"]
     sc.lwork = <lapack_int>sizes["work"]
     mu = base + <Py_ssize_t>offsets["mu"]
     wq = base + <Py_ssize_t>offsets["wq"]
@@ -832,6 +1064,7 @@ def solve_columns(
         mu[i] = quadrature_cosines[i]
         wq[i] = quadrature_weights[i]
         sqw[i] = sqrt(quadrature_weights[i])
+        sc.ones[i] = 1.0
     ipiv_buffer = np.zeros(neq * sizeof(lapack_int), dtype=np.uint8)
     ipiv_view = ipiv_buffer
     sc.ipiv = <lapack_int *>&ipiv_view[0]
@@ -868,6 +1101,18 @@ def solve_columns(
                     else:
                         ly.b0[layer] = 0.5 * (planck_levels[col, layer]
                                               + planck_levels[col, layer + 1])
+            # transmittances along the view directions (the same for every Fourier term)
+            if want_radiance:
+                for layer in range(sz.nlayer):
+                    depth = optical_depth[col, layer]
+                    for u in range(sz.nvz):
+                        umu = view_cosines[u]
+                        inv = 1.0 / umu
+                        sc.eu[layer * sz.nvz + u] = exp(-depth / umu)
+                        sc.et[layer * sz.nvz + u] = exp(-depth * inv)
+            for s in range(sz.nsun):
+                sc.mu0done[s] = -1.0      # nothing cached for this column yet
+                sc.beamdone[s] = 0
             small_run = 0
             code = 0
             for mode in range(nmodes):
@@ -880,21 +1125,21 @@ def solve_columns(
                 for s in range(sz.nsun):
                     sc.mu0e[s] = sun_cosine[col, s]
                 # homogeneous solutions
+                scattering_matrices(&sz, &sc, mode, &phase_moments[col, 0, 0])
                 for layer in range(sz.nlayer):
                     w = min(single_scattering_albedo[col, layer], 1.0 - C_CONSERVATIVE_GAP)
-                    for l in range(sz.nl):
-                        sc.ce[l] = 0.0
-                        sc.co[l] = 0.0
-                        if l >= mode:
-                            if (l + mode) % 2 == 0:
-                                sc.ce[l] = (2.0 * l + 1.0) * phase_moments[col, layer, l]
-                            else:
-                                sc.co[l] = (2.0 * l + 1.0) * phase_moments[col, layer, l]
+                    sc.ce = sc.ceall + layer * sz.nl
+                    sc.co = sc.coall + layer * sz.nl
                     if layer_eigen(&sz, &sc, &ly, layer, w, mu, sqw, &failed_code,
                                    &failed_info) != 0:
                         set_status(status, col, failed_code, layer, mode, failed_info)
                         code = 1
                         break
+                    # each mode across its layer, once for the boundary-value problem,
+                    # the fluxes and the radiances
+                    depth = optical_depth[col, layer]
+                    for i in range(n):
+                        ly.ek[layer * n + i] = exp(-ly.k[layer * n + i] * depth)
                 if code != 0:
                     break
                 # resonance: keep mu0 * k away from 1 in every layer
@@ -909,39 +1154,30 @@ def solve_columns(
                             break
                         sc.mu0e[s] = sc.mu0e[s] * (1.0 + 2.0 * C_RESONANCE_GAP)
                     legendre_table(mode, sz.nl, &sc.mu0e[s], 1, sc.l0 + s * sz.nl)
+                    if sc.mu0e[s] == sc.mu0done[s]:
+                        continue    # the beam's exponentials of the last term still hold
+                    sc.mu0done[s] = sc.mu0e[s]
+                    sc.beamdone[s] = 0
                     sumtau = 0.0
+                    sec = 1.0 / sc.mu0e[s]
                     for layer in range(sz.nlayer):
                         ly.ttop[layer * sz.nsun + s] = exp(-sumtau / sc.mu0e[s])
+                        ly.eb[layer * sz.nsun + s] = exp(-optical_depth[col, layer] * sec)
                         sumtau = sumtau + optical_depth[col, layer]
                 # particular solutions
                 for layer in range(sz.nlayer):
                     w = min(single_scattering_albedo[col, layer], 1.0 - C_CONSERVATIVE_GAP)
-                    for l in range(sz.nl):
-                        sc.ce[l] = 0.0
-                        sc.co[l] = 0.0
-                        if l >= mode:
-                            if (l + mode) % 2 == 0:
-                                sc.ce[l] = (2.0 * l + 1.0) * phase_moments[col, layer, l]
-                            else:
-                                sc.co[l] = (2.0 * l + 1.0) * phase_moments[col, layer, l]
+                    sc.ce = sc.ceall + layer * sz.nl
+                    sc.co = sc.coall + layer * sz.nl
                     for s in range(sz.nsun):
                         x = w * sun_irradiance[col, s] * (1.0 if mode == 0 else 2.0) \
                             / (4.0 * PI) * ly.ttop[layer * sz.nsun + s]
-                        if beam_particular(&sz, &sc, &ly, layer, s, x, sc.mu0e[s], sqw) != 0:
-                            set_status(status, col, 4, layer, mode, 0)
-                            code = 1
-                            break
-                    if code == 0 and thermal and mode == 0:
-                        if thermal_particular(&sz, &sc, &ly, layer, mu, sqw) != 0:
-                            set_status(status, col, 4, layer, mode, 0)
-                            code = 1
-                    if code != 0:
-                        break
+                        beam_particular(&sz, &sc, &ly, layer, mode, s, x, sc.mu0e[s], sqw)
+                    if thermal and mode == 0:
+                        thermal_particular(&sz, &sc, &ly, layer, mu, sqw)
                     if want_radiance:
                         user_sources(&sz, &sc, &ly, layer, mode, w, wq,
                                      &sun_irradiance[col, 0], thermal)
-                if code != 0:
-                    break
                 code = solve_boundary_values(
                     &sz, &sc, &ly, mode, &optical_depth[col, 0], mu, wq,
                     surface_albedo[col], top_radiance[col], planck_surface[col] * (
@@ -953,39 +1189,68 @@ def solve_columns(
                 fourier_terms[col] = mode + 1
                 # fluxes and mean intensity (azimuth-independent term)
                 if mode == 0:
-                    for s in range(sz.nsun):
-                        sec = 1.0 / sc.mu0e[s]
-                        for p in range(sz.npos):
-                            layer = position_layer[p]
-                            dt1 = position_fraction[p] * optical_depth[col, layer]
-                            dt2 = optical_depth[col, layer] - dt1
+                    for p in range(sz.npos):
+                        layer = position_layer[p]
+                        dt1 = position_fraction[p] * optical_depth[col, layer]
+                        dt2 = optical_depth[col, layer] - dt1
+                        for i in range(n):
+                            sc.e1[i] = exp(-ly.k[layer * n + i] * dt1)
+                            sc.e2[i] = exp(-ly.k[layer * n + i] * dt2)
+                        for s in range(sz.nsun):
+                            sec = 1.0 / sc.mu0e[s]
+                            x = exp(-dt1 * sec)
                             fu = 0.0
                             fd = 0.0
                             jm = 0.0
                             for i in range(n):
                                 value = quadrature_radiance(&sz, &ly, layer, s, i, True, dt1,
-                                                            dt2, sec, thermal)
-                                x = quadrature_radiance(&sz, &ly, layer, s, i, False, dt1,
-                                                        dt2, sec, thermal)
+                                                            x, sc.e1, sc.e2, thermal)
+                                size = quadrature_radiance(&sz, &ly, layer, s, i, False, dt1,
+                                                           x, sc.e1, sc.e2, thermal)
                                 fu = fu + wq[i] * mu[i] * value
-                                fd = fd + wq[i] * mu[i] * x
-                                jm = jm + 0.5 * wq[i] * (value + x)
+                                fd = fd + wq[i] * mu[i] * size
+                                jm = jm + 0.5 * wq[i] * (value + size)
                             flux_up[col, s, p] = 2.0 * PI * fu
                             flux_down[col, s, p] = 2.0 * PI * fd
                             mean_intensity[col, s, p] = jm
                 if not want_radiance:
                     continue
-                # radiance at the user angles for this Fourier term
+                # radiance at the user angles for this Fourier term: first the integrals
+                # across whole layers that no sun angle or direction changes
+                for layer in range(sz.nlayer):
+                    depth = optical_depth[col, layer]
+                    for u in range(sz.nvz):
+                        inv = 1.0 / view_cosines[u]
+                        for i in range(n):
+                            sc.dA[(layer * sz.nvz + u) * n + i] = dexp_from_zero(
+                                ly.k[layer * n + i] + inv, depth)
+                            sc.dB[(layer * sz.nvz + u) * n + i] = dexp_cached(
+                                inv, ly.k[layer * n + i], depth,
+                                sc.et[layer * sz.nvz + u], ly.ek[layer * n + i])
                 for s in range(sz.nsun):
                     sec = 1.0 / sc.mu0e[s]
+                    if not sc.beamdone[s]:
+                        # the beam's integrals across each layer along each view (they
+                        # change only when the resonance shift changes mu0)
+                        sc.beamdone[s] = 1
+                        for layer in range(sz.nlayer):
+                            depth = optical_depth[col, layer]
+                            for u in range(sz.nvz):
+                                inv = 1.0 / view_cosines[u]
+                                sc.bA[(layer * sz.nsun + s) * sz.nvz + u] = dexp_from_zero(
+                                    sec + inv, depth)
+                                sc.bB[(layer * sz.nsun + s) * sz.nvz + u] = dexp_cached(
+                                    inv, sec, depth, sc.et[layer * sz.nvz + u],
+                                    ly.eb[layer * sz.nsun + s])
                     layer = sz.nlayer - 1
                     x = 0.0
                     if mode == 0:
                         for i in range(n):
                             x = x + 2.0 * surface_albedo[col] * wq[i] * mu[i] \
                                 * quadrature_radiance(&sz, &ly, layer, s, i, False,
-                                                      optical_depth[col, layer], 0.0, sec,
-                                                      thermal)
+                                                      optical_depth[col, layer],
+                                                      ly.eb[layer * sz.nsun + s],
+                                                      &ly.ek[layer * n], sc.ones, thermal)
                         x = x + sc.surfbeam[s]
                         if thermal:
                             x = x + (1.0 - surface_albedo[col]) * planck_surface[col]
@@ -995,20 +1260,33 @@ def solve_columns(
                         for layer in range(sz.nlayer - 1, -1, -1):
                             sc.iup[(layer * sz.nsun + s) * sz.nvz + u] = \
                                 sc.iup[((layer + 1) * sz.nsun + s) * sz.nvz + u] \
-                                * exp(-optical_depth[col, layer] / umu) \
-                                + upward_partial(&sz, &sc, &ly, layer, s, u, umu, 0.0,
-                                                 optical_depth[col, layer], sec,
-                                                 thermal and mode == 0)
+                                * sc.eu[layer * sz.nvz + u] \
+                                + upward_layer(&sz, &sc, &ly, layer, s, u, umu,
+                                               optical_depth[col, layer],
+                                               thermal and mode == 0)
                         sc.idn[s * sz.nvz + u] = top_radiance[col] if mode == 0 else 0.0
                         for layer in range(sz.nlayer):
                             sc.idn[((layer + 1) * sz.nsun + s) * sz.nvz + u] = \
                                 sc.idn[(layer * sz.nsun + s) * sz.nvz + u] \
-                                * exp(-optical_depth[col, layer] / umu) \
-                                + downward_partial(&sz, &sc, &ly, layer, s, u, umu,
-                                                   optical_depth[col, layer], 0.0, sec,
-                                                   thermal and mode == 0)
+                                * sc.eu[layer * sz.nvz + u] \
+                                + downward_layer(&sz, &sc, &ly, layer, s, u, umu,
+                                                 optical_depth[col, layer],
+                                                 thermal and mode == 0)
                         for p in range(sz.npos):
                             layer = position_layer[p]
+                            # on a level the value is already known
+                            if position_fraction[p] == 0.0:
+                                sc.radm[((s * sz.npos + p) * 2 + 0) * sz.nvz + u] = \
+                                    sc.iup[(layer * sz.nsun + s) * sz.nvz + u]
+                                sc.radm[((s * sz.npos + p) * 2 + 1) * sz.nvz + u] = \
+                                    sc.idn[(layer * sz.nsun + s) * sz.nvz + u]
+                                continue
+                            if position_fraction[p] == 1.0:
+                                sc.radm[((s * sz.npos + p) * 2 + 0) * sz.nvz + u] = \
+                                    sc.iup[((layer + 1) * sz.nsun + s) * sz.nvz + u]
+                                sc.radm[((s * sz.npos + p) * 2 + 1) * sz.nvz + u] = \
+                                    sc.idn[((layer + 1) * sz.nsun + s) * sz.nvz + u]
+                                continue
                             dt1 = position_fraction[p] * optical_depth[col, layer]
                             dt2 = optical_depth[col, layer] - dt1
                             sc.radm[((s * sz.npos + p) * 2 + 0) * sz.nvz + u] = \
@@ -1024,12 +1302,14 @@ def solve_columns(
                 # add this term and test convergence of the Fourier series
                 change = 0.0
                 biggest = 0.0
+                for a in range(sz.nva):
+                    sc.cosm[a] = cos(mode * view_azimuths[a])
                 for s in range(sz.nsun):
                     for p in range(sz.npos):
                         for i in range(2):
                             for u in range(sz.nvz):
                                 for a in range(sz.nva):
-                                    cm = cos(mode * view_azimuths[a]) \
+                                    cm = sc.cosm[a] \
                                         * sc.radm[((s * sz.npos + p) * 2 + i) * sz.nvz + u]
                                     radiance[col, s, p, i, u, a] += cm
                                     biggest = max(biggest, fabs(radiance[col, s, p, i, u, a]))
@@ -1039,7 +1319,7 @@ def solve_columns(
                         for i in range(2):
                             for u in range(sz.nvz):
                                 for a in range(sz.nva):
-                                    cm = cos(mode * view_azimuths[a]) \
+                                    cm = sc.cosm[a] \
                                         * sc.radm[((s * sz.npos + p) * 2 + i) * sz.nvz + u]
                                     size = fabs(radiance[col, s, p, i, u, a])
                                     change = max(change, fabs(cm) / max(size, floor_value))
