@@ -456,6 +456,28 @@ cdef void thermal_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t laye
         ly.y0m[layer * n + i] = b0 - b1 * sc.vec1[i] / sqw[i]
 
 
+cdef void thermal_slope(Layers *ly, Py_ssize_t layer, Py_ssize_t n, double depth, double w,
+                        double top, double bottom) noexcept nogil:
+    """Planck source B0 + B1 (t - t_top) of a layer, or its mean where the slope is unresolvable.
+
+    The linear part of the particular solution is cancelled through the layer's slowest
+    homogeneous mode k_min, with a round-off error of about eps |B1| / k_min; replacing the
+    source by its mean changes the emission by about (1 - w) |B1| depth^2 / 12. The mean is
+    used where it is the smaller error, (1 - w) depth^2 k_min < 12 eps: thin, nearly
+    conservative layers (which hardly emit) and layers so thin that B1 would overflow.
+    """
+    cdef Py_ssize_t j
+    cdef double kmin = ly.k[layer * n]
+    for j in range(1, n):
+        kmin = min(kmin, ly.k[layer * n + j])
+    if (1.0 - w) * depth * depth * kmin < 12.0 * 2.220446049250313e-16:
+        ly.b0[layer] = 0.5 * (top + bottom)
+        ly.b1[layer] = 0.0
+    else:
+        ly.b0[layer] = top
+        ly.b1[layer] = (bottom - top) / depth
+
+
 cdef inline void band_put(Scratch *sc, Py_ssize_t i, Py_ssize_t j, double value) noexcept nogil:
     sc.ab[sc.kl + sc.kl + i - j + j * sc.ldab] = value
 
@@ -837,6 +859,7 @@ def _check_shapes(ncol, n, nlayer, nsun, npos, nvz, nva, shapes, position_layer)
     expected = {
         "single_scattering_albedo": (ncol, nlayer),
         "phase_moments": (ncol, nlayer, 2 * n),
+        "sun_cosine": (ncol, nsun),
         "sun_irradiance": (ncol, nsun),
         "surface_albedo": (ncol,),
         "planck_levels": (ncol, nlayer + 1),
@@ -938,6 +961,7 @@ def solve_columns(
                                          single_scattering_albedo.shape[1]),
             "phase_moments": (phase_moments.shape[0], phase_moments.shape[1],
                               phase_moments.shape[2]),
+            "sun_cosine": (sun_cosine.shape[0], sun_cosine.shape[1]),
             "sun_irradiance": (sun_irradiance.shape[0], sun_irradiance.shape[1]),
             "surface_albedo": (surface_albedo.shape[0],),
             "planck_levels": (planck_levels.shape[0], planck_levels.shape[1]),
@@ -1087,20 +1111,9 @@ def solve_columns(
                         for u in range(sz.nvz):
                             for a in range(sz.nva):
                                 radiance[col, s, p, i, u, a] = 0.0
-            # thermal source per layer (isothermal inside a layer thinner than 1e-6:
-            # the slope would only amplify round-off)
             for layer in range(sz.nlayer):
                 ly.b0[layer] = 0.0
                 ly.b1[layer] = 0.0
-                if thermal:
-                    depth = optical_depth[col, layer]
-                    if depth > 1e-6:
-                        ly.b0[layer] = planck_levels[col, layer]
-                        ly.b1[layer] = (planck_levels[col, layer + 1]
-                                        - planck_levels[col, layer]) / depth
-                    else:
-                        ly.b0[layer] = 0.5 * (planck_levels[col, layer]
-                                              + planck_levels[col, layer + 1])
             # transmittances along the view directions (the same for every Fourier term)
             if want_radiance:
                 for layer in range(sz.nlayer):
@@ -1174,6 +1187,8 @@ def solve_columns(
                             / (4.0 * PI) * ly.ttop[layer * sz.nsun + s]
                         beam_particular(&sz, &sc, &ly, layer, mode, s, x, sc.mu0e[s], sqw)
                     if thermal and mode == 0:
+                        thermal_slope(&ly, layer, n, optical_depth[col, layer], w,
+                                      planck_levels[col, layer], planck_levels[col, layer + 1])
                         thermal_particular(&sz, &sc, &ly, layer, mu, sqw)
                     if want_radiance:
                         user_sources(&sz, &sc, &ly, layer, mode, w, wq,
