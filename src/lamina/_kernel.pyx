@@ -928,7 +928,7 @@ def solve_columns(
     cdef Py_ssize_t ncol = optical_depth.shape[0]
     cdef Py_ssize_t n = quadrature_cosines.shape[0]
     cdef Py_ssize_t nl, nlay, nsun, nvz, ldab, neq
-    cdef Py_ssize_t col, layer, mode, s, p, i, l, u, a, tries, nmodes, small_run
+    cdef Py_ssize_t col, layer, mode, s, p, i, l, u, a, _attempt, nmodes, small_run
     cdef Py_ssize_t failed_code = 0
     cdef lapack_int failed_info = 0, info = 0, ni, lwork_query = -1
     cdef double w, dt1, dt2, sec, fu, fd, jm, x, closest, change, size, floor_value, cm
@@ -1157,7 +1157,7 @@ def solve_columns(
                     break
                 # resonance: keep mu0 * k away from 1 in every layer
                 for s in range(sz.nsun):
-                    for tries in range(8):
+                    for _attempt in range(8):
                         closest = 1.0
                         for i in range(sz.nlayer * n):
                             x = fabs(sc.mu0e[s] * ly.k[i] - 1.0)
@@ -1397,7 +1397,7 @@ def single_scattering(
     cdef Py_ssize_t nsun = sun_cosine.shape[1], npos = position_layer.shape[0]
     cdef Py_ssize_t nvz = view_cosines.shape[0], nva = radiance.shape[5]
     cdef Py_ssize_t col, s, u, a, layer, p
-    cdef double mu0, sec, inv, top, amp, dt1, dt2, value, t
+    cdef double mu0, sec, inv, amp, dt1, dt2, value, t
     cdef double[::1] up_levels = np.zeros(nlay + 1), down_levels = np.zeros(nlay + 1)
     cdef double[::1] tops = np.zeros(nlay + 1)
     if (single_scattering_albedo.shape[0] != ncol or single_scattering_albedo.shape[1] != nlay
