@@ -6,8 +6,8 @@ correction, with delta-M only, and with delta-M and the Nakajima-Tanaka (1988) s
 scattering correction. The reference is 128 streams without either (chi_128 = 0.85**128 ~
 1e-9, so nothing is truncated). The last method adds the aureole correction (multiple
 scattering inside the forward peak, see lamina.solve). Radiance errors are the largest
-relative errors over view zenith 0..75 degrees and azimuths 0..180, away from the peaks: reflected light with
-scattering angles below 170 degrees, transmitted light with scattering angles above 20
+relative errors over view zenith 0..75 degrees and azimuths 0..180, away from the peaks:
+reflected light with scattering angles below 170 degrees, transmitted light with scattering angles above 20
 degrees; "aureole" is transmitted light within 20 degrees of the beam.
 
 Run: python validation/forward_peak_table.py
