@@ -7,8 +7,9 @@ scattering correction. The reference is 128 streams without either (chi_128 = 0.
 1e-9, so nothing is truncated). The last method adds the aureole correction (multiple
 scattering inside the forward peak, see lamina.solve). Radiance errors are the largest
 relative errors over view zenith 0..75 degrees and azimuths 0..180, away from the peaks:
-reflected light with scattering angles below 170 degrees, transmitted light with scattering angles above 20
-degrees; "aureole" is transmitted light within 20 degrees of the beam.
+reflected light with scattering angles below 170 degrees, transmitted light with
+scattering angles above 20 degrees; "aureole" is transmitted light within 20 degrees of
+the beam.
 
 Run: python validation/forward_peak_table.py
 """
