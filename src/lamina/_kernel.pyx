@@ -822,8 +822,7 @@ cdef inline double upward_layer(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t l
     if thermal:
         b1 = ly.b1[layer]
         s0 = sc.s0A[layer * nvz + u]
-        value = value + (s0 + b1 * 0.0 + umu * b1) \
-            - (s0 + b1 * (0.0 + depth) + umu * b1) * sc.et[layer * nvz + u]
+        value = value + (s0 + umu * b1) - (s0 + b1 * depth + umu * b1) * sc.et[layer * nvz + u]
     return value
 
 
