@@ -359,8 +359,10 @@ def _single_scattering_correction(
     cosine = np.clip(cosine, -1.0, 1.0)                       # (col, sun, 2, vz, va)
     shape = cosine.shape[1:]
     flat = cosine.reshape(ncol, 1, -1)
-    exact = _phase_at(moments, flat).reshape(ncol, moments.shape[1], *shape)
-    truncated = _phase_at(moments_s, flat).reshape(ncol, moments.shape[1], *shape)
+    # one table of (2l+1) P_l at every angle serves both phase functions of every layer
+    table = _legendre_table(flat[:, 0, :], max(moments.shape[-1], moments_s.shape[-1]))
+    exact = _contract(moments, table).reshape(ncol, moments.shape[1], *shape)
+    truncated = _contract(moments_s, table).reshape(ncol, moments.shape[1], *shape)
     remaining = 1.0 - albedo * truncation
     # where w f = 1 the scaled layer is empty (t' = 0) and scatters nothing
     albedo_exact = np.divide(albedo, remaining, out=np.zeros_like(albedo),
@@ -441,9 +443,28 @@ def _legendre_sum(coefficients: np.ndarray, cosine: np.ndarray) -> np.ndarray:
     return total
 
 
-def _phase_at(moments: np.ndarray, cosine: np.ndarray) -> np.ndarray:
-    """P(cos T) of every layer of every column at that column's cosines: (col, layer, k)."""
-    return _legendre_sum(moments[:, :, None, :], cosine)
+def _legendre_table(cosine: np.ndarray, degrees: int) -> np.ndarray:
+    """(2l+1) P_l(x) for l < degrees: shape (..., degrees, k) for x of shape (..., k)."""
+    table = np.empty((*cosine.shape[:-1], degrees, cosine.shape[-1]))
+    p_prev = np.ones_like(cosine)
+    table[..., 0, :] = p_prev
+    if degrees > 1:
+        p_curr = cosine
+        table[..., 1, :] = 3.0 * p_curr
+        for degree in range(2, degrees):
+            p_next = ((2 * degree - 1) * cosine * p_curr - (degree - 1) * p_prev) / degree
+            table[..., degree, :] = (2 * degree + 1) * p_next
+            p_prev, p_curr = p_curr, p_next
+    return table
+
+
+def _contract(moments: np.ndarray, table: np.ndarray) -> np.ndarray:
+    """sum_l moments[c, layer, l] table[c, l, k] -> (c, layer, k).
+
+    einsum's own loop (no BLAS) adds the terms in order of l for every output, so that
+    trailing zero moments change nothing and a chunked run equals an eager one bit for bit.
+    """
+    return np.einsum("cln,cnk->clk", moments, table[:, : moments.shape[-1]], optimize=False)
 
 
 def solve(
