@@ -425,22 +425,10 @@ def _aureole_correction(
     muv = view_cosines[None, None, :, None]
     cosine = muv * mu0[:, :, None, None] + np.sqrt(1.0 - muv**2) * sin0 * np.cos(
         view_azimuths)[None, None, None, :]
-    cosine = np.clip(cosine, -1.0, 1.0)[:, :, None]                       # (col, sun, 1, vz, va)
-    return _legendre_sum(coefficients[..., None, None, :], cosine)
-
-
-def _legendre_sum(coefficients: np.ndarray, cosine: np.ndarray) -> np.ndarray:
-    """sum_l (2l+1) c_l P_l(x), coefficients on the last axis, broadcast against x."""
-    p_prev = np.ones_like(cosine)
-    total = coefficients[..., 0] * p_prev
-    if coefficients.shape[-1] > 1:
-        p_curr = cosine
-        total = total + 3.0 * coefficients[..., 1] * p_curr
-        for degree in range(2, coefficients.shape[-1]):
-            p_next = ((2 * degree - 1) * cosine * p_curr - (degree - 1) * p_prev) / degree
-            total = total + (2 * degree + 1) * coefficients[..., degree] * p_next
-            p_prev, p_curr = p_curr, p_next
-    return total
+    cosine = np.clip(cosine, -1.0, 1.0)                                  # (col, sun, vz, va)
+    table = _legendre_table(cosine.reshape(*cosine.shape[:2], -1), coefficients.shape[-1])
+    summed = np.einsum("cspl,cslk->cspk", coefficients, table, optimize=False)
+    return summed.reshape(*summed.shape[:3], *cosine.shape[2:])
 
 
 def _legendre_table(cosine: np.ndarray, degrees: int) -> np.ndarray:
