@@ -328,3 +328,18 @@ def test_legendre_hook_matches_scipy():
             expected = norm * lpmv(m, degree, x) * (-1) ** m   # no Condon-Shortley phase
             assert np.allclose(table[:, degree], expected, rtol=1e-10, atol=1e-14)
         assert np.all(table[:, :m] == 0)
+
+
+def test_chunks_with_different_phase_function_lengths_equal_eager():
+    # short (g = 0.01) and long (g = 0.9) moment tails in one atmosphere: how columns are
+    # grouped into dask chunks must not change a single bit of any column's result
+    g = np.array([0.01, 0.9, 0.3, 0.6])[:, None]
+    moments = lamina.phase.henyey_greenstein(np.broadcast_to(g, (4, 2)), 400)
+    atm = lamina.make_atmosphere(np.full((4, 2), 0.8), np.full((4, 2), 0.95), moments,
+                                 extra_dims=["wavelength"])
+    options = dict(streams=8, sun_zenith=20.0, view_zenith=[0.0, 20.0, 40.0],
+                   view_azimuth=[0.0, 180.0])
+    eager = lamina.solve(atm, **options)
+    for size in (1, 3):
+        lazy = lamina.solve(atm.chunk({"wavelength": size}), **options)
+        xr.testing.assert_equal(lazy.compute(), eager)

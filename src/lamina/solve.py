@@ -212,12 +212,15 @@ def _block(
     require_range(planck_levels, "temperature (as Planck radiance)", 0.0)
     require_range(top_radiance, "top_diffuse_radiance", 0.0)
 
-    # moments below 1e-15 everywhere beyond some order add nothing to any sum
-    significant = np.flatnonzero(np.any(np.abs(moments) > 1e-15, axis=(0, 1)))
-    keep = max(int(significant[-1]) + 1 if significant.size else 1, 1)
-    if keep < nmom:
-        moments = moments[..., :keep]
-        nmom = keep
+    # the tail of each phase function below 1e-15 adds nothing; it is set to zero per layer
+    # (so that no result depends on which other columns share a dask chunk) and dropped
+    # where every layer of the block has ended
+    significant = np.abs(moments) > 1e-15
+    last = nmom - 1 - np.argmax(significant[..., ::-1], axis=-1)   # (col, layer)
+    last = np.where(significant.any(axis=-1), last, 0)
+    keep = int(last.max()) + 1
+    moments = np.where(np.arange(keep) <= last[..., None], moments[..., :keep], 0.0)
+    nmom = keep
     streams = settings["streams"]
     n = streams // 2
     mu, weights = double_gauss(streams)
