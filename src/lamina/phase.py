@@ -110,8 +110,10 @@ def _check_count(name: str, value: object, minimum: int) -> int:
     return int(value)
 
 
-def _legendre_table(cosines: np.ndarray, n_moments: int) -> np.ndarray:
+def legendre_polynomials(cosines: np.ndarray, n_moments: int) -> np.ndarray:
     """Legendre polynomials P_0..P_{n-1} at ``cosines``, stacked on a new last axis.
+
+    Used by the solver's radiance corrections to tabulate P_l once per set of angles.
 
     The upward three-term recurrence is stable for |x| <= 1 because |P_l| <= 1 there.
     """

@@ -363,7 +363,8 @@ def _single_scattering_correction(
     shape = cosine.shape[1:]
     flat = cosine.reshape(ncol, 1, -1)
     # one table of (2l+1) P_l at every angle serves both phase functions of every layer
-    table = _legendre_table(flat[:, 0, :], max(moments.shape[-1], moments_s.shape[-1]))
+    table = phase.legendre_polynomials(flat[:, 0, :],
+                                       max(moments.shape[-1], moments_s.shape[-1]))
     exact = _contract(moments, table).reshape(ncol, moments.shape[1], *shape)
     truncated = _contract(moments_s, table).reshape(ncol, moments.shape[1], *shape)
     remaining = 1.0 - albedo * truncation
@@ -429,33 +430,22 @@ def _aureole_correction(
     cosine = muv * mu0[:, :, None, None] + np.sqrt(1.0 - muv**2) * sin0 * np.cos(
         view_azimuths)[None, None, None, :]
     cosine = np.clip(cosine, -1.0, 1.0)                                  # (col, sun, vz, va)
-    table = _legendre_table(cosine.reshape(*cosine.shape[:2], -1), coefficients.shape[-1])
-    summed = np.einsum("cspl,cslk->cspk", coefficients, table, optimize=False)
+    terms = coefficients.shape[-1]
+    table = phase.legendre_polynomials(cosine.reshape(*cosine.shape[:2], -1), terms)
+    weighted = coefficients * (2.0 * np.arange(terms) + 1.0)
+    summed = np.einsum("cspl,cskl->cspk", weighted, table, optimize=False)
     return summed.reshape(*summed.shape[:3], *cosine.shape[2:])
 
 
-def _legendre_table(cosine: np.ndarray, degrees: int) -> np.ndarray:
-    """(2l+1) P_l(x) for l < degrees: shape (..., degrees, k) for x of shape (..., k)."""
-    table = np.empty((*cosine.shape[:-1], degrees, cosine.shape[-1]))
-    p_prev = np.ones_like(cosine)
-    table[..., 0, :] = p_prev
-    if degrees > 1:
-        p_curr = cosine
-        table[..., 1, :] = 3.0 * p_curr
-        for degree in range(2, degrees):
-            p_next = ((2 * degree - 1) * cosine * p_curr - (degree - 1) * p_prev) / degree
-            table[..., degree, :] = (2 * degree + 1) * p_next
-            p_prev, p_curr = p_curr, p_next
-    return table
-
-
 def _contract(moments: np.ndarray, table: np.ndarray) -> np.ndarray:
-    """sum_l moments[c, layer, l] table[c, l, k] -> (c, layer, k).
+    """sum_l (2l+1) moments[c, layer, l] P_l[c, k, l] -> (c, layer, k).
 
     einsum's own loop (no BLAS) adds the terms in order of l for every output, so that
     trailing zero moments change nothing and a chunked run equals an eager one bit for bit.
     """
-    return np.einsum("cln,cnk->clk", moments, table[:, : moments.shape[-1]], optimize=False)
+    terms = moments.shape[-1]
+    weighted = moments * (2.0 * np.arange(terms) + 1.0)
+    return np.einsum("cln,ckn->clk", weighted, table[..., :terms], optimize=False)
 
 
 def solve(
