@@ -40,6 +40,8 @@ import numpy.typing as npt
 import scipy.constants as const
 from scipy.special import zeta
 
+from lamina._checks import as_float_array
+
 __all__ = [
     "band_radiance",
     "spectral_radiance_wavelength",
@@ -152,14 +154,6 @@ def _band_integral(x_low: np.ndarray, x_high: np.ndarray, width: np.ndarray) -> 
     return result
 
 
-def _as_float_array(value: ArrayLike, name: str) -> np.ndarray:
-    try:
-        array = np.asarray(value, dtype=float)
-    except (TypeError, ValueError) as error:
-        raise ValueError(f"{name} must be a real number or array of them; got {value!r}") from error
-    return array
-
-
 def _first_bad(mask: np.ndarray, array: np.ndarray) -> str:
     """Describe the first offending element for an error message."""
     index = np.argwhere(mask)[0]
@@ -169,7 +163,7 @@ def _first_bad(mask: np.ndarray, array: np.ndarray) -> str:
 
 
 def _check_temperature(temperature: ArrayLike) -> np.ndarray:
-    t = _as_float_array(temperature, "temperature")
+    t = as_float_array(temperature, "temperature")
     bad = ~np.isfinite(t) | (t < 0.0)
     if np.any(bad):
         raise ValueError("temperature must be finite and >= 0 K; got " + _first_bad(bad, t))
@@ -177,7 +171,7 @@ def _check_temperature(temperature: ArrayLike) -> np.ndarray:
 
 
 def _check_positive(value: ArrayLike, name: str, unit: str) -> np.ndarray:
-    a = _as_float_array(value, name)
+    a = as_float_array(value, name)
     bad = ~np.isfinite(a) | ~(a > 0.0)
     if np.any(bad):
         raise ValueError(f"{name} must be finite and > 0 {unit}; got " + _first_bad(bad, a))
@@ -223,8 +217,8 @@ def band_radiance(
     True
     """
     t = _check_temperature(temperature)
-    lo = _as_float_array(wavenumber_low, "wavenumber_low")
-    hi = _as_float_array(wavenumber_high, "wavenumber_high")
+    lo = as_float_array(wavenumber_low, "wavenumber_low")
+    hi = as_float_array(wavenumber_high, "wavenumber_high")
     bad_lo = ~np.isfinite(lo) | (lo < 0.0)
     if np.any(bad_lo):
         raise ValueError(
