@@ -50,7 +50,7 @@ the outputs by up to 1e-10.
 
 from libc.math cimport cos, exp, expm1, fabs, isfinite, sqrt
 from libc.string cimport memcpy
-from scipy.linalg.cython_blas cimport dgemm, dtrmm, dtrsm, dtrsv
+from scipy.linalg.cython_blas cimport dgemm, dtrmm, dtrsm
 from scipy.linalg.cython_lapack cimport dgbtrf, dgbtrs, dgesvd, dpotrf
 
 from lamina._lapack_int cimport lapack_int
@@ -188,10 +188,8 @@ cdef struct Layers:
     double *k          # [layer][n]
     double *gp         # [layer][n x n] upward part of each mode, column = mode
     double *gm         # [layer][n x n] downward part
-    double *rf         # [layer][n x n] upper Cholesky factor of Dmat
-    double *lf         # [layer][n x n] lower Cholesky factor of Emat
-    double *uu         # [layer][n x n] left singular vectors of Z
-    double *vt         # [layer][n x n] right singular vectors of Z, transposed
+    double *ss         # [layer][n x n] R^-1 U: sum vectors, one column per mode
+    double *tt         # [layer][n x n] L^-T V: minus the difference vectors (T T^T = Emat^-1)
     double *zp         # [layer][sun][n] beam particular solution at the layer top, up
     double *zm         # [layer][sun][n] down
     double *y0p        # [layer][n] thermal particular solution at the layer top, up
@@ -216,9 +214,13 @@ cdef struct Scratch:
     double *tall      # [layer][2 n][nl] diag(c) Aw of every layer, even then odd
     double *kall      # [layer][2 n][n] K_even and K_odd of every layer
     double *tmp       # [2 nl] scratch of user_sources
-    double *ka        # [n x n]
-    double *kb        # [n x n]
+    double *rf        # [n x n] upper Cholesky factor of Dmat (of the layer being solved)
+    double *lf        # [n x n] lower Cholesky factor of Emat
+    double *uu        # [n x n] left singular vectors of Z
+    double *vt        # [n x n] right singular vectors of Z, transposed
     double *zz        # [n x n]
+    double *rmu       # [n] 1 / mu
+    double *rsqw      # [n] 1 / sqrt(weight)
     double *vec1      # [n]
     double *vec2      # [n]
     double *vec3      # [n]
@@ -309,17 +311,22 @@ cdef void scattering_matrices(Sizes *sz, Scratch *sc, Py_ssize_t mode,
 
 
 cdef int layer_eigen(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer, double w,
-                     const double *mu, const double *sqw, Py_ssize_t *failed_code,
-                     lapack_int *failed_info) noexcept nogil:
-    """Eigen-solution of one layer and Fourier term (after scattering_matrices)."""
+                     Py_ssize_t *failed_code, lapack_int *failed_info) noexcept nogil:
+    """Eigen-solution of one layer and Fourier term (after scattering_matrices).
+
+    Leaves k, the normalised mode vectors gp, gm and, for the particular solutions, the
+    unnormalised S = R^-1 U and T = L^-T V of the layer.
+    """
     cdef Py_ssize_t n = sz.n, i, j, kk
     cdef lapack_int ni = <lapack_int>n, info = 0
-    cdef double one = 1.0, big, s, d
+    cdef double one = 1.0, big, s, d, scale
     cdef double *kall = sc.kall + 2 * n * n * layer
-    cdef double *rf = ly.rf + layer * n * n
-    cdef double *lf = ly.lf + layer * n * n
-    cdef double *uu = ly.uu + layer * n * n
-    cdef double *vt = ly.vt + layer * n * n
+    cdef double *rf = sc.rf
+    cdef double *lf = sc.lf
+    cdef double *uu = sc.uu
+    cdef double *vt = sc.vt
+    cdef double *ss = ly.ss + layer * n * n
+    cdef double *tt = ly.tt + layer * n * n
     cdef double *gp = ly.gp + layer * n * n
     cdef double *gm = ly.gm + layer * n * n
     cdef double *kv = ly.k + layer * n
@@ -329,8 +336,10 @@ cdef int layer_eigen(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer, doubl
     # K_even = Aw^T diag(ce) Aw and K_odd, from scattering_matrices
     for j in range(n):
         for i in range(n):
-            rf[i + j * n] = (1.0 if i == j else 0.0) - w * kall[i + j * n]
-            lf[i + j * n] = (1.0 if i == j else 0.0) - w * kall[i + (n + j) * n]
+            rf[i + j * n] = -w * kall[i + j * n]
+            lf[i + j * n] = -w * kall[i + (n + j) * n]
+        rf[j + j * n] = rf[j + j * n] + 1.0
+        lf[j + j * n] = lf[j + j * n] + 1.0
     dpotrf(&uplo_u, &ni, rf, &ni, &info)
     if info != 0:
         failed_code[0] = 1
@@ -341,16 +350,12 @@ cdef int layer_eigen(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer, doubl
         failed_code[0] = 2
         failed_info[0] = info
         return 1
+    # Z = R M^-1 L (dtrmm reads only the upper triangle of R; L's upper part is zeroed)
     for j in range(n):
-        for i in range(n):
-            if i > j:
-                rf[i + j * n] = 0.0
-            elif i < j:
-                lf[i + j * n] = 0.0
-    # Z = R M^-1 L
-    for j in range(n):
-        for i in range(n):
-            sc.zz[i + j * n] = lf[i + j * n] / mu[i]
+        for i in range(j):
+            sc.zz[i + j * n] = 0.0
+        for i in range(j, n):
+            sc.zz[i + j * n] = lf[i + j * n] * sc.rmu[i]
     dtrmm(&side_l, &uplo_u, &trans_n, &diag_n, &ni, &ni, &one, rf, &ni, sc.zz, &ni)
     dgesvd(&job_a, &job_a, &ni, &ni, sc.zz, &ni, kv, uu, &ni, vt, &ni, sc.work, &sc.lwork,
            &info)
@@ -358,45 +363,47 @@ cdef int layer_eigen(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer, doubl
         failed_code[0] = 3
         failed_info[0] = info
         return 1
-    # sums s = R^-1 u_j and differences d = -L^-T v_j. BLAS dtrsm rather than LAPACK
-    # dtrtrs: OpenBLAS runs its own dtrtrs on its thread pool even for 8 x 8 systems, and the
+    # sums S = R^-1 U and differences D = -L^-T V. BLAS dtrsm rather than LAPACK dtrtrs:
+    # OpenBLAS runs its own dtrtrs on its thread pool even for 8 x 8 systems, and the
     # hand-off costs far more than the solve (and oversubscribes dask worker threads). The
     # factors come from a successful dpotrf, so their diagonals are positive (dtrtrs's only
-    # extra is a check for an exactly zero diagonal).
-    memcpy(sc.ka, uu, n * n * sizeof(double))
-    dtrsm(&side_l, &uplo_u, &trans_n, &diag_n, &ni, &ni, &one, rf, &ni, sc.ka, &ni)
+    # extra is a check for an exactly zero diagonal). dtrsm reads only the triangle named.
+    memcpy(ss, uu, n * n * sizeof(double))
+    dtrsm(&side_l, &uplo_u, &trans_n, &diag_n, &ni, &ni, &one, rf, &ni, ss, &ni)
     for j in range(n):
         for i in range(n):
-            sc.kb[i + j * n] = vt[j + i * n]
-    dtrsm(&side_l, &uplo_l, &trans_t, &diag_n, &ni, &ni, &one, lf, &ni, sc.kb, &ni)
+            tt[i + j * n] = vt[j + i * n]
+    dtrsm(&side_l, &uplo_l, &trans_t, &diag_n, &ni, &ni, &one, lf, &ni, tt, &ni)
     for kk in range(n):
         big = 0.0
         for i in range(n):
-            s = sc.ka[i + kk * n]
-            d = -sc.kb[i + kk * n]
-            gp[i + kk * n] = 0.5 * (s + d) / sqw[i]
-            gm[i + kk * n] = 0.5 * (s - d) / sqw[i]
+            s = ss[i + kk * n]
+            d = -tt[i + kk * n]
+            gp[i + kk * n] = 0.5 * (s + d) * sc.rsqw[i]
+            gm[i + kk * n] = 0.5 * (s - d) * sc.rsqw[i]
             big = max(big, max(fabs(gp[i + kk * n]), fabs(gm[i + kk * n])))
         if big > 0.0:
+            scale = 1.0 / big
             for i in range(n):
-                gp[i + kk * n] /= big
-                gm[i + kk * n] /= big
+                gp[i + kk * n] = gp[i + kk * n] * scale
+                gm[i + kk * n] = gm[i + kk * n] * scale
     return 0
 
 
 cdef void beam_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
-                          Py_ssize_t mode, Py_ssize_t sun, double amplitude, double mu0,
-                          const double *sqw) noexcept nogil:
+                          Py_ssize_t mode, Py_ssize_t sun, double amplitude,
+                          double mu0) noexcept nogil:
     """Particular solution Z e^{-(t - t_top)/mu0} for the beam source of one layer.
 
     ``amplitude`` = w S (2 - delta_m0) / (4 pi) times the beam transmittance to the top.
+    With the symmetrised source a (sums) and b (differences), the solution's coordinates in
+    the singular bases are alpha = U^T R^-T a = S^T a and beta = V^T L^-1 b = T^T b, and it
+    returns through R^-1 U = S and L^-T V = T: four products with the layer's S and T, no
+    triangular solve (those were the dominant cost per sun angle).
     """
     cdef Py_ssize_t n = sz.n, nl = sz.nl, i, j
-    cdef lapack_int ni = <lapack_int>n, one_i = 1
-    cdef double *rf = ly.rf + layer * n * n
-    cdef double *lf = ly.lf + layer * n * n
-    cdef double *uu = ly.uu + layer * n * n
-    cdef double *vt = ly.vt + layer * n * n
+    cdef double *ss = ly.ss + layer * n * n
+    cdef double *tt = ly.tt + layer * n * n
     cdef double *kv = ly.k + layer * n
     cdef double *zp = ly.zp + (layer * sz.nsun + sun) * n
     cdef double *zm = ly.zm + (layer * sz.nsun + sun) * n
@@ -405,7 +412,6 @@ cdef void beam_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
     cdef double *acc1 = sc.acc
     cdef double *acc2 = sc.acc + n
     cdef double *ce_aw = sc.tall + 2 * n * nl * layer
-    cdef char uplo_u = b'U', uplo_l = b'L', trans_n = b'N', trans_t = b'T', diag_n = b'N'
     if amplitude == 0.0:
         for i in range(n):
             zp[i] = 0.0
@@ -418,11 +424,9 @@ cdef void beam_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
     for i in range(n):
         sc.vec1[i] = 2.0 * amplitude * acc1[i]      # symmetrised Q+ + Q-
         sc.vec2[i] = -2.0 * amplitude * acc2[i]     # symmetrised Q+ - Q-
-    dtrsv(&uplo_u, &trans_t, &diag_n, &ni, rf, &ni, sc.vec1, &one_i)
-    dtrsv(&uplo_l, &trans_n, &diag_n, &ni, lf, &ni, sc.vec2, &one_i)
-    # coordinates in the singular bases: alpha = U^T a1, beta = V^T b1
-    column_dots(uu, 1, n, sc.vec1, n, n, acc1)
-    column_dots(vt, n, 1, sc.vec2, n, n, acc2)
+    # coordinates in the singular bases: alpha = S^T a1, beta = T^T b1
+    column_dots(ss, 1, n, sc.vec1, n, n, acc1)
+    column_dots(tt, 1, n, sc.vec2, n, n, acc2)
     for j in range(n):
         alpha = acc1[j]
         beta = acc2[j]
@@ -430,30 +434,29 @@ cdef void beam_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
         den = x * x - 1.0
         sc.vec3[j] = x * (alpha * x - beta) / den       # p-hat
         sc.zz[j] = x * (beta * x - alpha) / den         # q-hat (zz as scratch)
-    column_dots(uu, n, 1, sc.vec3, n, n, sc.vec1)
-    column_dots(vt, 1, n, sc.zz, n, n, sc.vec2)
-    dtrsv(&uplo_u, &trans_n, &diag_n, &ni, rf, &ni, sc.vec1, &one_i)
-    dtrsv(&uplo_l, &trans_t, &diag_n, &ni, lf, &ni, sc.vec2, &one_i)
+    column_dots(ss, n, 1, sc.vec3, n, n, sc.vec1)
+    column_dots(tt, n, 1, sc.zz, n, n, sc.vec2)
     for i in range(n):
-        zp[i] = 0.5 * (sc.vec1[i] + sc.vec2[i]) / sqw[i]
-        zm[i] = 0.5 * (sc.vec1[i] - sc.vec2[i]) / sqw[i]
+        zp[i] = 0.5 * (sc.vec1[i] + sc.vec2[i]) * sc.rsqw[i]
+        zm[i] = 0.5 * (sc.vec1[i] - sc.vec2[i]) * sc.rsqw[i]
 
 
 cdef void thermal_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
                              const double *mu, const double *sqw) noexcept nogil:
-    """Particular solution B0 + B1 (t - t_top) +- B1 (a + b)^-1 M 1 of the linear Planck source."""
+    """Particular solution B0 + B1 (t - t_top) +- B1 (a + b)^-1 M 1 of the linear Planck source.
+
+    The symmetrised (a + b)^-1 is Emat^-1 = L^-T L^-1 = T T^T.
+    """
     cdef Py_ssize_t n = sz.n, i
-    cdef lapack_int ni = <lapack_int>n, one_i = 1
-    cdef double *lf = ly.lf + layer * n * n
+    cdef double *tt = ly.tt + layer * n * n
     cdef double b1 = ly.b1[layer], b0 = ly.b0[layer]
-    cdef char uplo_l = b'L', trans_n = b'N', trans_t = b'T', diag_n = b'N'
     for i in range(n):
-        sc.vec1[i] = sqw[i] * mu[i]
-    dtrsv(&uplo_l, &trans_n, &diag_n, &ni, lf, &ni, sc.vec1, &one_i)
-    dtrsv(&uplo_l, &trans_t, &diag_n, &ni, lf, &ni, sc.vec1, &one_i)
+        sc.vec2[i] = sqw[i] * mu[i]
+    column_dots(tt, 1, n, sc.vec2, n, n, sc.vec3)
+    column_dots(tt, n, 1, sc.vec3, n, n, sc.vec1)
     for i in range(n):
-        ly.y0p[layer * n + i] = b0 + b1 * sc.vec1[i] / sqw[i]
-        ly.y0m[layer * n + i] = b0 - b1 * sc.vec1[i] / sqw[i]
+        ly.y0p[layer * n + i] = b0 + b1 * sc.vec1[i] * sc.rsqw[i]
+        ly.y0m[layer * n + i] = b0 - b1 * sc.vec1[i] * sc.rsqw[i]
 
 
 cdef void thermal_slope(Layers *ly, Py_ssize_t layer, Py_ssize_t n, double depth, double w,
@@ -993,19 +996,18 @@ def solve_columns(
     dgesvd(&job_a, &job_a, &ni, &ni, &probe[0], &ni, &probe[n * n], &probe[0], &ni,
            &probe[0], &ni, &work_size, &lwork_query, &info)
     sizes = {
-        "k": nlay * n, "gp": nlay * n * n, "gm": nlay * n * n, "rf": nlay * n * n,
-        "lf": nlay * n * n, "uu": nlay * n * n, "vt": nlay * n * n, "zp": nlay * nsun * n,
+        "k": nlay * n, "gp": nlay * n * n, "gm": nlay * n * n, "ss": nlay * n * n,
+        "tt": nlay * n * n, "rf": n * n, "lf": n * n, "uu": n * n, "vt": n * n, "zp": nlay * nsun * n,
         "zm": nlay * nsun * n, "y0p": nlay * n, "y0m": nlay * n, "b0": nlay, "b1": nlay,
         "ttop": nlay * nsun, "coef": nsun * neq, "aw": nl * n, "lq": nl * n, "lu": nl * nvz,
         "l0": nl * nsun, "ceall": nlay * nl, "coall": nlay * nl,
-        "tall": 2 * n * nlay * nl, "kall": 2 * n * nlay * n, "tmp": 2 * nl, "ka": n * n,
-        "kb": n * n,
+        "tall": 2 * n * nlay * nl, "kall": 2 * n * nlay * n, "tmp": 2 * nl,
         "zz": n * n, "vec1": n, "vec2": n, "vec3": n, "ab": ldab * neq, "mu0e": nsun,
         "surfbeam": nsun, "pup": nvz * n, "pum": nvz * n, "hA": nlay * nvz * n,
         "hB": nlay * nvz * n, "zuA": nlay * nsun * nvz, "zuB": nlay * nsun * nvz,
         "s0A": nlay * nvz, "s0B": nlay * nvz, "iup": (nlay + 1) * nsun * nvz,
         "idn": (nlay + 1) * nsun * nvz, "radm": nsun * sz.npos * 2 * nvz,
-        "work": int(work_size) + 8 * n, "mu": n, "wq": n, "sqw": n,
+        "work": int(work_size) + 8 * n, "mu": n, "wq": n, "sqw": n, "rmu": n, "rsqw": n,
         "ek": nlay * n, "eb": nlay * nsun, "e1": n, "e2": n, "ones": n, "eu": nlay * nvz,
         "et": nlay * nvz, "dA": nlay * nvz * n, "dB": nlay * nvz * n,
         "cosm": max(sz.nva, 1), "acc": 2 * n,
@@ -1022,10 +1024,14 @@ def solve_columns(
     ly.k = base + <Py_ssize_t>offsets["k"]
     ly.gp = base + <Py_ssize_t>offsets["gp"]
     ly.gm = base + <Py_ssize_t>offsets["gm"]
-    ly.rf = base + <Py_ssize_t>offsets["rf"]
-    ly.lf = base + <Py_ssize_t>offsets["lf"]
-    ly.uu = base + <Py_ssize_t>offsets["uu"]
-    ly.vt = base + <Py_ssize_t>offsets["vt"]
+    ly.ss = base + <Py_ssize_t>offsets["ss"]
+    ly.tt = base + <Py_ssize_t>offsets["tt"]
+    sc.rf = base + <Py_ssize_t>offsets["rf"]
+    sc.lf = base + <Py_ssize_t>offsets["lf"]
+    sc.uu = base + <Py_ssize_t>offsets["uu"]
+    sc.vt = base + <Py_ssize_t>offsets["vt"]
+    sc.rmu = base + <Py_ssize_t>offsets["rmu"]
+    sc.rsqw = base + <Py_ssize_t>offsets["rsqw"]
     ly.zp = base + <Py_ssize_t>offsets["zp"]
     ly.zm = base + <Py_ssize_t>offsets["zm"]
     ly.y0p = base + <Py_ssize_t>offsets["y0p"]
@@ -1043,8 +1049,6 @@ def solve_columns(
     sc.tall = base + <Py_ssize_t>offsets["tall"]
     sc.kall = base + <Py_ssize_t>offsets["kall"]
     sc.tmp = base + <Py_ssize_t>offsets["tmp"]
-    sc.ka = base + <Py_ssize_t>offsets["ka"]
-    sc.kb = base + <Py_ssize_t>offsets["kb"]
     sc.zz = base + <Py_ssize_t>offsets["zz"]
     sc.vec1 = base + <Py_ssize_t>offsets["vec1"]
     sc.vec2 = base + <Py_ssize_t>offsets["vec2"]
@@ -1088,6 +1092,8 @@ def solve_columns(
         wq[i] = quadrature_weights[i]
         sqw[i] = sqrt(quadrature_weights[i])
         sc.ones[i] = 1.0
+        sc.rmu[i] = 1.0 / mu[i]
+        sc.rsqw[i] = 1.0 / sqw[i]
     ipiv_buffer = np.zeros(neq * sizeof(lapack_int), dtype=np.uint8)
     ipiv_view = ipiv_buffer
     sc.ipiv = <lapack_int *>&ipiv_view[0]
@@ -1142,7 +1148,7 @@ def solve_columns(
                     w = min(single_scattering_albedo[col, layer], 1.0 - C_CONSERVATIVE_GAP)
                     sc.ce = sc.ceall + layer * sz.nl
                     sc.co = sc.coall + layer * sz.nl
-                    if layer_eigen(&sz, &sc, &ly, layer, w, mu, sqw, &failed_code,
+                    if layer_eigen(&sz, &sc, &ly, layer, w, &failed_code,
                                    &failed_info) != 0:
                         set_status(status, col, failed_code, layer, mode, failed_info)
                         code = 1
@@ -1184,7 +1190,7 @@ def solve_columns(
                     for s in range(sz.nsun):
                         x = w * sun_irradiance[col, s] * (1.0 if mode == 0 else 2.0) \
                             / (4.0 * PI) * ly.ttop[layer * sz.nsun + s]
-                        beam_particular(&sz, &sc, &ly, layer, mode, s, x, sc.mu0e[s], sqw)
+                        beam_particular(&sz, &sc, &ly, layer, mode, s, x, sc.mu0e[s])
                     if thermal and mode == 0:
                         thermal_slope(&ly, layer, n, optical_depth[col, layer], w,
                                       planck_levels[col, layer], planck_levels[col, layer + 1])
