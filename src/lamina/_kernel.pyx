@@ -84,23 +84,33 @@ cdef inline double dexp(double a, double b, double length) noexcept nogil:
     return exp(-low * length) * length * ratio
 
 
-cdef inline double dexp_from_zero(double b, double length) noexcept nogil:
-    """dexp(0, b, length) for b > 0, without the exp(0) (the same floating-point result)."""
+# Above this x, 1 - exp(-x) comes from cached exponentials instead of expm1: it is >= 0.39,
+# so the product or quotient of two exponentials (relative error 2 eps) costs at most
+# 3 eps relative, and no call to expm1.
+cdef double C_CACHED_X = 0.5
+
+
+cdef inline double dexp_from_zero(double b, double length, double exp_bl) noexcept nogil:
+    """dexp(0, b, length) for b > 0, given exp_bl = exp(-b length) to a few ulp."""
     cdef double x = b * length
-    cdef double ratio = 1.0
+    if x > C_CACHED_X:
+        return (1.0 - exp_bl) / b
     if x > 0.0:
-        ratio = -expm1(-x) / x
-    return length * ratio
+        return length * (-expm1(-x) / x)
+    return length
 
 
 cdef inline double dexp_cached(double a, double b, double length, double exp_a,
                                double exp_b) noexcept nogil:
-    """dexp(a, b, length) given exp(-a length) and exp(-b length) (the same result)."""
+    """dexp(a, b, length) given exp(-a length) and exp(-b length)."""
     cdef double x = fabs(b - a) * length
-    cdef double ratio = 1.0
+    cdef double low = exp_a if a < b else exp_b
+    cdef double high = exp_b if a < b else exp_a
+    if x > C_CACHED_X and low > 1e-200:
+        return (low - high) / fabs(b - a)
     if x > 0.0:
-        ratio = -expm1(-x) / x
-    return (exp_a if a < b else exp_b) * length * ratio
+        return low * length * (-expm1(-x) / x)
+    return low * length
 
 
 cdef inline void column_dots(const double *a, Py_ssize_t step_sum, Py_ssize_t step_out,
@@ -570,13 +580,14 @@ cdef int solve_boundary_values(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t mo
     for layer in range(nlay):
         total = total + tau[layer]
     # top: downward radiance given
+    # (every block is written column by column: band storage keeps a column contiguous)
     gp = ly.gp
     gm = ly.gm
-    kv = ly.k
-    for i in range(n):
-        for kk in range(n):
+    for kk in range(n):
+        e = ly.ek[kk]
+        for i in range(n):
             band_put(sc, i, kk, gm[i + kk * n])
-            band_put(sc, i, n + kk, gp[i + kk * n] * ly.ek[kk])
+            band_put(sc, i, n + kk, gp[i + kk * n] * e)
     # interfaces
     for layer in range(nlay - 1):
         gp = ly.gp + layer * n * n
@@ -587,16 +598,19 @@ cdef int solve_boundary_values(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t mo
         kv2 = ly.ek + (layer + 1) * n
         row = n + 2 * n * layer
         col = 2 * n * layer
-        for i in range(n):
-            for kk in range(n):
-                e = kv[kk]
+        for kk in range(n):
+            e = kv[kk]
+            for i in range(n):
                 band_put(sc, row + i, col + kk, gp[i + kk * n] * e)
                 band_put(sc, row + n + i, col + kk, gm[i + kk * n] * e)
+            for i in range(n):
                 band_put(sc, row + i, col + n + kk, gm[i + kk * n])
                 band_put(sc, row + n + i, col + n + kk, gp[i + kk * n])
-                e = kv2[kk]
+            e = kv2[kk]
+            for i in range(n):
                 band_put(sc, row + i, col + 2 * n + kk, -gp2[i + kk * n])
                 band_put(sc, row + n + i, col + 2 * n + kk, -gm2[i + kk * n])
+            for i in range(n):
                 band_put(sc, row + i, col + 3 * n + kk, -gm2[i + kk * n] * e)
                 band_put(sc, row + n + i, col + 3 * n + kk, -gp2[i + kk * n] * e)
     # bottom: upward radiance = Lambertian reflection of the downward radiance + sources
@@ -1243,7 +1257,8 @@ def solve_columns(
                         inv = 1.0 / view_cosines[u]
                         for i in range(n):
                             sc.dA[(layer * sz.nvz + u) * n + i] = dexp_from_zero(
-                                ly.k[layer * n + i] + inv, depth)
+                                ly.k[layer * n + i] + inv, depth,
+                                ly.ek[layer * n + i] * sc.et[layer * sz.nvz + u])
                             sc.dB[(layer * sz.nvz + u) * n + i] = dexp_cached(
                                 inv, ly.k[layer * n + i], depth,
                                 sc.et[layer * sz.nvz + u], ly.ek[layer * n + i])
@@ -1258,7 +1273,8 @@ def solve_columns(
                             for u in range(sz.nvz):
                                 inv = 1.0 / view_cosines[u]
                                 sc.bA[(layer * sz.nsun + s) * sz.nvz + u] = dexp_from_zero(
-                                    sec + inv, depth)
+                                    sec + inv, depth,
+                                    ly.eb[layer * sz.nsun + s] * sc.et[layer * sz.nvz + u])
                                 sc.bB[(layer * sz.nsun + s) * sz.nvz + u] = dexp_cached(
                                     inv, sec, depth, sc.et[layer * sz.nvz + u],
                                     ly.eb[layer * sz.nsun + s])
@@ -1402,9 +1418,17 @@ def single_scattering(
     cdef Py_ssize_t nsun = sun_cosine.shape[1], npos = position_layer.shape[0]
     cdef Py_ssize_t nvz = view_cosines.shape[0], nva = radiance.shape[5]
     cdef Py_ssize_t col, s, u, a, layer, p
-    cdef double mu0, sec, inv, amp, dt1, dt2, value, t
+    cdef double mu0, sec, inv, beam, dt1, dt2, up, down
     cdef double[::1] up_levels = np.zeros(nlay + 1), down_levels = np.zeros(nlay + 1)
     cdef double[::1] tops = np.zeros(nlay + 1)
+    # per layer and view cosine, the same for every azimuth: transmittance along the view and
+    # the beam's source integrated across the layer (up, down) per unit w P
+    cdef double[::1] across = np.zeros(nlay), source_up = np.zeros(nlay)
+    cdef double[::1] source_down = np.zeros(nlay)
+    # the same for the part of a layer between an output position and the layer's bottom
+    # (up) or top (down)
+    cdef double[::1] below = np.zeros(npos), above = np.zeros(npos)
+    cdef double[::1] part_up = np.zeros(npos), part_down = np.zeros(npos)
     if (single_scattering_albedo.shape[0] != ncol or single_scattering_albedo.shape[1] != nlay
             or phase_function.shape[0] != ncol or phase_function.shape[1] != nlay
             or phase_function.shape[2] != nsun or phase_function.shape[3] != 2
@@ -1427,39 +1451,40 @@ def single_scattering(
                 sec = 1.0 / mu0
                 for u in range(nvz):
                     inv = 1.0 / view_cosines[u]
+                    for layer in range(nlay):
+                        beam = sun_irradiance[col, s] / (4.0 * PI) \
+                            * single_scattering_albedo[col, layer] \
+                            * exp(-tops[layer] * sec) * inv
+                        across[layer] = exp(-optical_depth[col, layer] * inv)
+                        source_up[layer] = beam * dexp(0.0, sec + inv, optical_depth[col, layer])
+                        source_down[layer] = beam * dexp(inv, sec, optical_depth[col, layer])
+                    for p in range(npos):
+                        layer = position_layer[p]
+                        dt1 = position_fraction[p] * optical_depth[col, layer]
+                        dt2 = optical_depth[col, layer] - dt1
+                        beam = sun_irradiance[col, s] / (4.0 * PI) \
+                            * single_scattering_albedo[col, layer] * inv
+                        below[p] = exp(-dt2 * inv)
+                        part_up[p] = beam * exp(-(tops[layer] + dt1) * sec) \
+                            * dexp(0.0, sec + inv, dt2)
+                        above[p] = exp(-dt1 * inv)
+                        part_down[p] = beam * exp(-tops[layer] * sec) * dexp(inv, sec, dt1)
                     for a in range(nva):
                         # upward, from the bottom (no surface contribution)
                         up_levels[nlay] = 0.0
                         for layer in range(nlay - 1, -1, -1):
-                            amp = single_scattering_albedo[col, layer] \
-                                * sun_irradiance[col, s] / (4.0 * PI) \
-                                * phase_function[col, layer, s, 0, u, a]
-                            up_levels[layer] = up_levels[layer + 1] \
-                                * exp(-optical_depth[col, layer] * inv) \
-                                + amp * exp(-tops[layer] * sec) * inv \
-                                * dexp(0.0, sec + inv, optical_depth[col, layer])
+                            up_levels[layer] = up_levels[layer + 1] * across[layer] \
+                                + phase_function[col, layer, s, 0, u, a] * source_up[layer]
                         down_levels[0] = 0.0
                         for layer in range(nlay):
-                            amp = single_scattering_albedo[col, layer] \
-                                * sun_irradiance[col, s] / (4.0 * PI) \
-                                * phase_function[col, layer, s, 1, u, a]
-                            down_levels[layer + 1] = down_levels[layer] \
-                                * exp(-optical_depth[col, layer] * inv) \
-                                + amp * exp(-tops[layer] * sec) * inv \
-                                * dexp(inv, sec, optical_depth[col, layer])
+                            down_levels[layer + 1] = down_levels[layer] * across[layer] \
+                                + phase_function[col, layer, s, 1, u, a] * source_down[layer]
                         for p in range(npos):
                             layer = position_layer[p]
-                            dt1 = position_fraction[p] * optical_depth[col, layer]
-                            dt2 = optical_depth[col, layer] - dt1
-                            t = tops[layer] + dt1
-                            amp = single_scattering_albedo[col, layer] \
-                                * sun_irradiance[col, s] / (4.0 * PI)
-                            value = up_levels[layer + 1] * exp(-dt2 * inv) \
-                                + amp * phase_function[col, layer, s, 0, u, a] \
-                                * exp(-t * sec) * inv * dexp(0.0, sec + inv, dt2)
-                            radiance[col, s, p, 0, u, a] += sign * value
-                            value = down_levels[layer] * exp(-dt1 * inv) \
-                                + amp * phase_function[col, layer, s, 1, u, a] \
-                                * exp(-tops[layer] * sec) * inv * dexp(inv, sec, dt1)
-                            radiance[col, s, p, 1, u, a] += sign * value
+                            up = up_levels[layer + 1] * below[p] \
+                                + phase_function[col, layer, s, 0, u, a] * part_up[p]
+                            down = down_levels[layer] * above[p] \
+                                + phase_function[col, layer, s, 1, u, a] * part_down[p]
+                            radiance[col, s, p, 0, u, a] += sign * up
+                            radiance[col, s, p, 1, u, a] += sign * down
     return None

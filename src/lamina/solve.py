@@ -348,7 +348,8 @@ def _single_scattering_correction(
     scaled optical depth. Its exact value uses the full phase function (every supplied
     moment) with the scaled optical depth and the albedo w / (1 - w f); the truncated value,
     which the discrete-ordinates solution already holds, uses the scaled albedo and the
-    truncated, scaled phase function. Both are computed in the kernel.
+    truncated, scaled phase function. Single scattering is linear in w P of each layer, so
+    the kernel integrates their difference once.
     """
     ncol, nsun = mu0.shape
     # cos of the scattering angle between the beam (direction -mu0) and each view
@@ -362,23 +363,22 @@ def _single_scattering_correction(
     cosine = np.clip(cosine, -1.0, 1.0)                       # (col, sun, 2, vz, va)
     shape = cosine.shape[1:]
     flat = cosine.reshape(ncol, 1, -1)
-    # one table of (2l+1) P_l at every angle serves both phase functions of every layer
-    table = phase.legendre_polynomials(flat[:, 0, :],
-                                       max(moments.shape[-1], moments_s.shape[-1]))
-    exact = _contract(moments, table).reshape(ncol, moments.shape[1], *shape)
-    truncated = _contract(moments_s, table).reshape(ncol, moments.shape[1], *shape)
+    # the correction is linear in w P of each layer: one contraction of the difference of
+    # the weighted moments, w_exact chi_l (every moment) - w' chi'_l (the truncated ones)
     remaining = 1.0 - albedo * truncation
     # where w f = 1 the scaled layer is empty (t' = 0) and scatters nothing
     albedo_exact = np.divide(albedo, remaining, out=np.zeros_like(albedo),
                              where=remaining > 0.0)
+    terms = max(moments.shape[-1], moments_s.shape[-1])
+    difference = np.zeros((ncol, moments.shape[1], terms))
+    difference[..., :moments.shape[-1]] = albedo_exact[..., None] * moments
+    difference[..., :moments_s.shape[-1]] -= albedo_s[..., None] * moments_s
+    table = phase.legendre_polynomials(flat[:, 0, :], terms)
+    weighted_phase = _contract(difference, table).reshape(ncol, moments.shape[1], *shape)
     correction = np.zeros((ncol, nsun, position_layer.size, 2, *shape[2:]))
-    s = np.ascontiguousarray(irradiance, dtype=np.float64)
-    _kernel.single_scattering(tau_s, np.ascontiguousarray(albedo_exact),
-                              np.ascontiguousarray(exact), mu0, s, position_layer,
-                              position_fraction, view_cosines, 1.0, correction)
-    _kernel.single_scattering(tau_s, albedo_s, np.ascontiguousarray(truncated), mu0, s,
-                              position_layer, position_fraction, view_cosines, -1.0,
-                              correction)
+    _kernel.single_scattering(tau_s, np.ones_like(tau_s), weighted_phase, mu0,
+                              np.ascontiguousarray(irradiance, dtype=np.float64),
+                              position_layer, position_fraction, view_cosines, 1.0, correction)
     return correction
 
 
