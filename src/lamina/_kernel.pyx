@@ -950,7 +950,7 @@ def solve_columns(
     cdef double w, dt1, dt2, sec, fu, fd, jm, x, closest, change, size, floor_value, cm
     cdef double depth, sumtau, umu, inv, value, biggest, work_size = 0.0
     cdef int code
-    cdef bint want_radiance
+    cdef bint want_radiance, unsettled
     cdef char job_a = b'A'
     cdef double[::1] pool_view, probe
     cdef double *base
@@ -1335,30 +1335,39 @@ def solve_columns(
                                 * exp(-dt1 / umu) + downward_partial(
                                     &sz, &sc, &ly, layer, s, u, umu, dt1, dt2, sec,
                                     thermal and mode == 0)
-                # add this term and test convergence of the Fourier series
+                # add this term and test convergence of the Fourier series: the change is
+                # max |term| / max(|sum|, 1e-14 max |sum|) over every output. The exact value
+                # needs a second pass (the floor needs the new maximum); it is only made when
+                # the first pass finds an output with |term| > tolerance |sum|, since
+                # otherwise the change cannot exceed the tolerance.
                 change = 0.0
                 biggest = 0.0
+                unsettled = False
                 for a in range(sz.nva):
                     sc.cosm[a] = cos(mode * view_azimuths[a])
                 for s in range(sz.nsun):
                     for p in range(sz.npos):
                         for i in range(2):
                             for u in range(sz.nvz):
+                                value = sc.radm[((s * sz.npos + p) * 2 + i) * sz.nvz + u]
                                 for a in range(sz.nva):
-                                    cm = sc.cosm[a] \
-                                        * sc.radm[((s * sz.npos + p) * 2 + i) * sz.nvz + u]
+                                    cm = sc.cosm[a] * value
                                     radiance[col, s, p, i, u, a] += cm
-                                    biggest = max(biggest, fabs(radiance[col, s, p, i, u, a]))
-                floor_value = 1e-300 + 1e-14 * biggest
-                for s in range(sz.nsun):
-                    for p in range(sz.npos):
-                        for i in range(2):
-                            for u in range(sz.nvz):
-                                for a in range(sz.nva):
-                                    cm = sc.cosm[a] \
-                                        * sc.radm[((s * sz.npos + p) * 2 + i) * sz.nvz + u]
                                     size = fabs(radiance[col, s, p, i, u, a])
-                                    change = max(change, fabs(cm) / max(size, floor_value))
+                                    biggest = max(biggest, size)
+                                    if fabs(cm) > fourier_tolerance * size:
+                                        unsettled = True
+                if mode > 0 and unsettled:
+                    floor_value = 1e-300 + 1e-14 * biggest
+                    for s in range(sz.nsun):
+                        for p in range(sz.npos):
+                            for i in range(2):
+                                for u in range(sz.nvz):
+                                    value = sc.radm[((s * sz.npos + p) * 2 + i) * sz.nvz + u]
+                                    for a in range(sz.nva):
+                                        cm = sc.cosm[a] * value
+                                        size = fabs(radiance[col, s, p, i, u, a])
+                                        change = max(change, fabs(cm) / max(size, floor_value))
                 if mode > 0:
                     if change <= fourier_tolerance:
                         small_run = small_run + 1
