@@ -301,8 +301,48 @@ def test_lazy_inputs_are_checked_when_computed():
     sun = xr.DataArray([10.0, 95.0], dims="wavelength").chunk({"wavelength": 1})
     out = lamina.solve(atm, sun_zenith=sun, view_zenith=[0.0], view_azimuth=[0.0])
     with pytest.raises(ValueError, match=exact("sun_zenith must lie in [0, 90); index (0, 0) "
-                                               "has 95")):
+                                               "has 95 (the index counts within one dask "
+                                               "chunk)")):
         out.compute()
+
+
+@pytest.mark.parametrize(("variable", "value", "message"), [
+    ("optical_depth", -1.0, "optical_depth must lie in [0, inf]; index (0, 0) has -1"),
+    ("single_scattering_albedo", 1.5,
+     "single_scattering_albedo must lie in [0, 1]; index (0, 0) has 1.5"),
+    ("phase_moments", 2.0, "phase_moments must satisfy |chi_l| <= 1; index (0, 0, 1) has 2"),
+])
+@pytest.mark.parametrize("delta_m", [True, False])
+def test_lazy_atmosphere_is_checked_when_computed(variable, value, message, delta_m):
+    # a lazy atmosphere is not computed up front (it may be larger than memory); each block
+    # is checked when the solver computes it
+    atm = good().expand_dims(wavelength=2).copy(deep=True)
+    if variable == "phase_moments":
+        atm[variable][1, 0, 1] = value
+    else:
+        atm[variable][1, 0] = value
+    lazy = atm.chunk({"wavelength": 1})
+    lamina.check_atmosphere(lazy)
+    out = lamina.solve(lazy, delta_m=delta_m)
+    with pytest.raises(ValueError, match=exact(f"{message} (the index counts within one dask "
+                                               "chunk)")):
+        out.compute()
+
+
+def test_check_atmosphere_does_not_compute_lazy_values():
+    import dask
+    import dask.array as da
+
+    def refuse(block):
+        raise AssertionError("check_atmosphere computed a lazy variable")
+
+    atm = good().expand_dims(wavelength=4)
+    lazy = atm.chunk({"wavelength": 2})
+    for name in ("optical_depth", "single_scattering_albedo", "phase_moments"):
+        data = lazy[name].data
+        lazy[name] = (lazy[name].dims, da.map_blocks(refuse, data, dtype=data.dtype))
+    with dask.config.set(scheduler="synchronous"):
+        lamina.check_atmosphere(lazy)
 
 
 TYPE_ERRORS = [

@@ -12,7 +12,7 @@ from collections.abc import Sequence
 import numpy as np
 import xarray as xr
 
-from lamina._checks import as_float_array, first_bad, require_range
+from lamina._checks import _where, as_float_array, first_bad, require_range
 
 ArrayLike = object
 
@@ -162,6 +162,24 @@ def make_atmosphere(
     return ds
 
 
+def check_moment_values(values: np.ndarray, labels: list[str] | None = None) -> None:
+    """Phase moments (..., moment) must be finite, start with chi_0 = 1, and |chi_l| <= 1.
+
+    ``labels`` name the axes in messages (the dims of the variable); without them an
+    index tuple is given.
+    """
+    require_range(values, "phase_moments", labels=labels)
+    bad = first_bad(np.abs(values[..., 0] - 1.0) > MOMENT_TOLERANCE)
+    if bad is not None:
+        place = _where(bad, labels) if bad else "the phase function"
+        raise ValueError(f"phase_moments must start with chi_0 = 1; {place} has "
+                         f"chi_0 = {values[..., 0][bad]:g}")
+    bad = first_bad(np.abs(values) > 1.0 + MOMENT_TOLERANCE)
+    if bad is not None:
+        raise ValueError(f"phase_moments must satisfy |chi_l| <= 1; {_where(bad, labels)} "
+                         f"has {values[bad]:g}")
+
+
 def _labels(array: xr.DataArray) -> list[str]:
     return [str(dim) for dim in array.dims]
 
@@ -169,7 +187,10 @@ def _labels(array: xr.DataArray) -> list[str]:
 def check_atmosphere(ds: xr.Dataset) -> None:
     """Check an atmosphere Dataset; raise ValueError naming the variable and the rule.
 
-    Dask-backed variables are checked after computing them (the checks need the values).
+    The values of dask-backed optical properties and temperatures are not computed here
+    (a spectral run larger than memory must stream through in chunks): the solver checks
+    them block by block when it computes them, with the same rules. Dims and sizes are
+    always checked here.
     """
     if not isinstance(ds, xr.Dataset):
         raise TypeError(f"atmosphere must be an xarray.Dataset; got {type(ds).__name__}")
@@ -186,6 +207,8 @@ def check_atmosphere(ds: xr.Dataset) -> None:
                              f"it has {ds[name].dims}")
     if ds.sizes["layer"] < 1:
         raise ValueError("atmosphere must have at least one layer")
+    if ds.sizes["moment"] < 1:
+        raise ValueError("phase_moments must have at least one moment (chi_0 = 1)")
     nlevel = ds.sizes["layer"] + 1
     for name in ("temperature", "pressure", "altitude"):
         if name in ds:
@@ -197,29 +220,16 @@ def check_atmosphere(ds: xr.Dataset) -> None:
                     f"got {ds[name].sizes['level']}"
                 )
     tau = ds["optical_depth"]
-    require_range(np.asarray(tau.values), "optical_depth", 0.0, labels=_labels(tau))
+    if tau.chunks is None:
+        require_range(np.asarray(tau.values), "optical_depth", 0.0, labels=_labels(tau))
     albedo = ds["single_scattering_albedo"]
-    require_range(np.asarray(albedo.values), "single_scattering_albedo", 0.0, 1.0,
-                  labels=_labels(albedo))
-    moments = ds["phase_moments"]
-    values = np.asarray(moments.transpose(..., "moment").values)
-    labels = _labels(moments.transpose(..., "moment"))
-    require_range(values, "phase_moments", labels=labels)
-    if values.shape[-1] < 1:
-        raise ValueError("phase_moments must have at least one moment (chi_0 = 1)")
-    bad = first_bad(np.abs(values[..., 0] - 1.0) > MOMENT_TOLERANCE)
-    if bad is not None:
-        where = ", ".join(f"{label} {i}" for label, i in zip(labels[:-1], bad, strict=False))
-        raise ValueError(
-            f"phase_moments must start with chi_0 = 1; {where or 'the phase function'} has "
-            f"chi_0 = {values[..., 0][bad]:g}"
-        )
-    bad = first_bad(np.abs(values) > 1.0 + MOMENT_TOLERANCE)
-    if bad is not None:
-        where = ", ".join(f"{label} {i}" for label, i in zip(labels, bad, strict=False))
-        raise ValueError(f"phase_moments must satisfy |chi_l| <= 1; {where} has "
-                         f"{values[bad]:g}")
-    if "temperature" in ds:
+    if albedo.chunks is None:
+        require_range(np.asarray(albedo.values), "single_scattering_albedo", 0.0, 1.0,
+                      labels=_labels(albedo))
+    moments = ds["phase_moments"].transpose(..., "moment")
+    if moments.chunks is None:
+        check_moment_values(np.asarray(moments.values), _labels(moments))
+    if "temperature" in ds and ds["temperature"].chunks is None:
         temp = ds["temperature"]
         require_range(np.asarray(temp.values), "temperature", 0.0, labels=_labels(temp))
     if "pressure" in ds:

@@ -18,7 +18,7 @@ import xarray as xr
 
 from lamina import _kernel, phase, planck
 from lamina._checks import as_float_array, require_range
-from lamina.atmosphere import check_atmosphere
+from lamina.atmosphere import check_atmosphere, check_moment_values
 from lamina.quadrature import double_gauss
 
 #: Cosine used for a view zenith of exactly 90 degrees (the limit mu -> 0 is taken there).
@@ -204,13 +204,20 @@ def _block(
     planck_surface = np.broadcast_to(planck_surface, lead).reshape(ncol)
     top_radiance = np.broadcast_to(top_radiance, lead).reshape(ncol)
     # values of lazily given inputs are checked here, chunk by chunk
-    require_range(tau, "optical_depth", 0.0)
-    require_range(albedo, "single_scattering_albedo", 0.0, 1.0)
-    require_range(zenith, "sun_zenith", 0.0, 90.0, high_open=True)
-    require_range(irradiance, "sun_irradiance", 0.0)
-    require_range(surface_albedo, "surface_albedo", 0.0, 1.0)
-    require_range(planck_levels, "temperature (as Planck radiance)", 0.0)
-    require_range(top_radiance, "top_diffuse_radiance", 0.0)
+    try:
+        if not settings["optics_checked"]:
+            require_range(tau, "optical_depth", 0.0)
+            require_range(albedo, "single_scattering_albedo", 0.0, 1.0)
+            check_moment_values(moments)
+        require_range(zenith, "sun_zenith", 0.0, 90.0, high_open=True)
+        require_range(irradiance, "sun_irradiance", 0.0)
+        require_range(surface_albedo, "surface_albedo", 0.0, 1.0)
+        require_range(planck_levels, "temperature (as Planck radiance)", 0.0)
+        require_range(top_radiance, "top_diffuse_radiance", 0.0)
+    except ValueError as error:
+        if settings["lazy"]:
+            raise ValueError(f"{error} (the index counts within one dask chunk)") from None
+        raise
 
     # the tail of each phase function below 1e-15 adds nothing; it is set to zero per layer
     # (so that no result depends on which other columns share a dask chunk) and dropped
@@ -586,6 +593,13 @@ def solve(
         "fourier_tolerance": tolerance, "max_fourier_terms": max_terms,
         "thermal": thermal, "positions": positions, "view_zenith": view_z,
         "view_azimuth": view_a,
+        # check_atmosphere has checked the values of optical properties held in memory
+        "lazy": any(array.chunks is not None for array in (
+            atmosphere["optical_depth"], atmosphere["single_scattering_albedo"],
+            atmosphere["phase_moments"], zenith, irradiance, albedo, planck_levels,
+            planck_surface, top)),
+        "optics_checked": all(atmosphere[name].chunks is None for name in (
+            "optical_depth", "single_scattering_albedo", "phase_moments")),
     }
     core_in = [["layer"], ["layer"], ["layer", "moment"], [_SUN], [_SUN], [], ["level"], [], []]
     inputs = [
