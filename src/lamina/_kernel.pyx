@@ -47,10 +47,11 @@ values; the exact Fourier convergence measure is only evaluated when some output
 more than the tolerance. No call here may hand work to OpenBLAS's thread pool for small
 matrices (its dtrtrs always does, hence dtrsm; the batched dgemm stays under the threading
 threshold): the kernel runs in dask's or the caller's threads, and a nested pool only
-oversubscribes the cores. The triangular factors of nearly conservative layers are ill-conditioned (about
-1e6), so even reordering a sum moves the outputs by up to 1e-10 of the incident flux: a
-change for speed is checked against the previous build on conservative stacks (energy
-conservation, the validation suite), not only on the tests' tolerances.
+oversubscribes the cores. The triangular factors of nearly conservative layers are
+ill-conditioned (about 1e6), so even reordering a sum moves the outputs by up to 1e-10 of
+the incident flux: a change for speed is checked against the previous build on
+conservative stacks (energy conservation, the validation suite), not only on the tests'
+tolerances.
 """
 
 from libc.math cimport cos, exp, expm1, fabs, isfinite, sqrt
@@ -1017,7 +1018,8 @@ def solve_columns(
     sizes = {
         "k": nlay * n, "gp": nlay * n * n, "gm": nlay * n * n, "ss": nlay * n * n,
         "tt": nlay * n * n, "rf": n * n, "lf": n * n, "uu": n * n, "vt": n * n,
-        "zp": nlay * nsun * n, "zm": nlay * nsun * n, "y0p": nlay * n, "y0m": nlay * n, "b0": nlay, "b1": nlay,
+        "zp": nlay * nsun * n, "zm": nlay * nsun * n, "y0p": nlay * n, "y0m": nlay * n,
+        "b0": nlay, "b1": nlay,
         "ttop": nlay * nsun, "coef": nsun * neq, "aw": nl * n, "lq": nl * n, "lu": nl * nvz,
         "l0": nl * nsun, "ceall": nlay * nl, "coall": nlay * nl,
         "tall": 2 * n * nlay * nl, "kall": 2 * n * nlay * n, "tmp": 2 * nl,
