@@ -364,18 +364,31 @@ def main() -> None:
     grow_columns = 20 if quick else 40
     layer_sizes = [10, 20, 50, 100, 200]
     stream_sizes = [4, 8, 16, 32, 64]
-    layer_flux, layer_radiance, stream_flux = [], [], []
-    for size in layer_sizes:
-        grown = random_atmosphere(columns, size, seed=size)
-        layer_flux.append(best_time(solver(grown), repeats) / columns)
-        grown = grown.isel(wavelength=slice(0, grow_columns))
-        layer_radiance.append(best_time(solver(grown, radiance=True), few) / grow_columns)
-    grown = random_atmosphere(grow_columns, layers, seed=7)
-    for size in stream_sizes:
-        stream_flux.append(best_time(solver(grown, streams=size), few) / grow_columns)
-    layer_flux_p = fit_exponent(layer_sizes, layer_flux)
-    layer_radiance_p = fit_exponent(layer_sizes, layer_radiance)
-    stream_flux_p = fit_exponent(stream_sizes, stream_flux)
+    # in rounds, each round timing every size once: the exponent is the median of the
+    # rounds' own fits (a drift of the machine's speed between rounds does not bend them)
+    grown = {size: random_atmosphere(columns, size, seed=size) for size in layer_sizes}
+    flux_calls = {size: solver(grown[size]) for size in layer_sizes}
+    radiance_calls = {
+        size: solver(grown[size].isel(wavelength=slice(0, grow_columns)), radiance=True)
+        for size in layer_sizes}
+    stream_atmosphere = random_atmosphere(grow_columns, layers, seed=7)
+    stream_calls = {size: solver(stream_atmosphere, streams=size) for size in stream_sizes}
+    layer_times = interleaved(
+        {("flux", size): wall(flux_calls[size]) for size in layer_sizes}
+        | {("radiance", size): wall(radiance_calls[size]) for size in layer_sizes}, repeats)
+    stream_times = interleaved({size: wall(stream_calls[size]) for size in stream_sizes}, few)
+
+    def growth(times, sizes, per):
+        table = np.array([times[size] for size in sizes]) / per      # (size, round)
+        exponent = np.median([fit_exponent(sizes, table[:, r]) for r in range(table.shape[1])])
+        return list(table.min(axis=1)), float(exponent)
+
+    layer_flux, layer_flux_p = growth(
+        {size: layer_times["flux", size] for size in layer_sizes}, layer_sizes, columns)
+    layer_radiance, layer_radiance_p = growth(
+        {size: layer_times["radiance", size] for size in layer_sizes}, layer_sizes,
+        grow_columns)
+    stream_flux, stream_flux_p = growth(stream_times, stream_sizes, grow_columns)
 
     progress("dask threads")
     # 8 chunks of the benchmark's 200 columns, and a ten times longer spectral run of fluxes
@@ -465,7 +478,7 @@ def main() -> None:
     ]
     print(f"lamina {lamina.__version__}: {streams} streams, {layers} Henyey-Greenstein "
           f"layers, {columns} columns (wavelengths) per call, sun at {SUN_ZENITH:g} deg; "
-          f"{repeats} rounds (growth, suns: {few}; threads: {thread_rounds}); times are the "
+          f"{repeats} rounds (streams, suns: {few}; threads: {thread_rounds}); times are the "
           "best round, "
           "ratios the median of the rounds' own ratios")
     print(f"python {platform.python_version()}, numpy {np.__version__}, scipy "

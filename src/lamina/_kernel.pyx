@@ -417,7 +417,8 @@ cdef void beam_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
     returns through R^-1 U = S and L^-T V = T: four products with the layer's S and T, no
     triangular solve (those were the dominant cost per sun angle).
     """
-    cdef Py_ssize_t n = sz.n, nl = sz.nl, i, j
+    cdef Py_ssize_t n = sz.n, nl = sz.nl, i, j, l
+    cdef Py_ssize_t neven = (nl - mode + 1) // 2, nodd = (nl - mode) // 2
     cdef double *ss = ly.ss + layer * n * n
     cdef double *tt = ly.tt + layer * n * n
     cdef double *kv = ly.k + layer * n
@@ -434,9 +435,14 @@ cdef void beam_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
             zm[i] = 0.0
         return
     # sum_l c_l P_l^m(mu_i) sqrt(w_i) P_l^m(mu0) with diag(c) Aw from scattering_matrices
-    # (P_l^m vanishes for l < m)
-    column_dots(ce_aw + mode, 1, nl, l0 + mode, nl - mode, n, acc1)
-    column_dots(ce_aw + n * nl + mode, 1, nl, l0 + mode, nl - mode, n, acc2)
+    # (P_l^m vanishes for l < m; the even part has c_l = 0 where l + m is odd and the odd
+    # part where it is even, so each sum runs over its own parity only)
+    for l in range(neven):
+        sc.tmp[l] = l0[mode + 2 * l]
+    for l in range(nodd):
+        sc.tmp[nl + l] = l0[mode + 2 * l + 1]
+    column_dots(ce_aw + mode, 2, nl, sc.tmp, neven, n, acc1)
+    column_dots(ce_aw + n * nl + mode + 1, 2, nl, sc.tmp + nl, nodd, n, acc2)
     for i in range(n):
         sc.vec1[i] = 2.0 * amplitude * acc1[i]      # symmetrised Q+ + Q-
         sc.vec2[i] = -2.0 * amplitude * acc2[i]     # symmetrised Q+ - Q-
@@ -695,31 +701,35 @@ cdef void user_sources(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer, Py_
     cdef double *gm = ly.gm + layer * n * n
     cdef double *hA = sc.hA + layer * nvz * n
     cdef double *hB = sc.hB + layer * nvz * n
-    cdef double *cu = sc.tmp              # [nl] scratch: c_l P_l^m(mu_u)
-    cdef double *cp = sc.tmp + sz.nl      # [nl] the same with the parity (-1)^(l+m)
+    cdef double *even = sc.tmp            # [nl / 2] c_l P_l^m(mu_u), l + m even
+    cdef double *odd = sc.tmp + sz.nl     # [nl / 2] the same, l + m odd
+    cdef Py_ssize_t neven = (nl - mode + 1) // 2, nodd = (nl - mode) // 2
     cdef double *zp
     cdef double *zm
     cdef double *l0
-    # p(mu_u, +-mu_j) = sum_l c_l P_l^m(mu_u) P_l^m(mu_j) (+-1)^(l+m); the coefficient and
-    # the parity are folded into the user-angle factor once per angle, out of the j loop
+    # p(mu_u, +-mu_j) = sum_l c_l P_l^m(mu_u) P_l^m(mu_j) (+-1)^(l+m) = E_j +- O_j, the sums
+    # over even and odd l + m; the coefficient is folded into the user-angle factor once per
+    # angle, out of the j loop
     for u in range(nvz):
-        for l in range(mode, nl):
-            cu[l] = (sc.ce[l] + sc.co[l]) * sc.lu[l + u * nl]
-            cp[l] = cu[l] if (l + mode) % 2 == 0 else -cu[l]
-        column_dots(sc.lq + mode, 1, nl, cu + mode, nl - mode, n, acc1)
-        column_dots(sc.lq + mode, 1, nl, cp + mode, nl - mode, n, acc2)
+        for l in range(neven):
+            even[l] = sc.ce[mode + 2 * l] * sc.lu[mode + 2 * l + u * nl]
+        for l in range(nodd):
+            odd[l] = sc.co[mode + 2 * l + 1] * sc.lu[mode + 2 * l + 1 + u * nl]
+        column_dots(sc.lq + mode, 2, nl, even, neven, n, acc1)
+        column_dots(sc.lq + mode + 1, 2, nl, odd, nodd, n, acc2)
         for j in range(n):
-            sc.pup[u + j * nvz] = 0.5 * w * wq[j] * acc1[j]
-            sc.pum[u + j * nvz] = 0.5 * w * wq[j] * acc2[j]
+            sc.pup[u + j * nvz] = 0.5 * w * wq[j] * (acc1[j] + acc2[j])
+            sc.pum[u + j * nvz] = 0.5 * w * wq[j] * (acc1[j] - acc2[j])
         for s in range(nsun):
             l0 = sc.l0 + s * nl
             sp = 0.0
             sm = 0.0
-            for l in range(mode, nl):
-                sp = sp + cu[l] * l0[l]
-                sm = sm + cp[l] * l0[l]
-            sc.zuA[(layer * nsun + s) * nvz + u] = sm      # completed below
-            sc.zuB[(layer * nsun + s) * nvz + u] = sp
+            for l in range(neven):
+                sp = sp + even[l] * l0[mode + 2 * l]
+            for l in range(nodd):
+                sm = sm + odd[l] * l0[mode + 2 * l + 1]
+            sc.zuA[(layer * nsun + s) * nvz + u] = sp - sm      # completed below
+            sc.zuB[(layer * nsun + s) * nvz + u] = sp + sm
     # hA = pup gp + pum gm, hB = pup gm + pum gp; two modes at a time (independent sums)
     for u in range(nvz):
         kk = 0
