@@ -960,7 +960,7 @@ def solve_columns(
     cdef Py_ssize_t ncol = optical_depth.shape[0]
     cdef Py_ssize_t n = quadrature_cosines.shape[0]
     cdef Py_ssize_t nl, nlay, nsun, nvz, ldab, neq
-    cdef Py_ssize_t col, layer, mode, s, p, i, l, u, a, _attempt, nmodes, small_run
+    cdef Py_ssize_t col, layer, mode, s, p, i, l, u, a, q, _attempt, nmodes, small_run
     cdef Py_ssize_t failed_code = 0
     cdef lapack_int failed_info = 0, info = 0, ni, lwork_query = -1
     cdef double w, dt1, dt2, sec, fu, fd, jm, x, closest, change, size, floor_value, cm
@@ -970,6 +970,7 @@ def solve_columns(
     cdef char job_a = b'A'
     cdef double[::1] pool_view, probe
     cdef double *base
+    cdef double *total_out
     cdef double *mu
     cdef double *wq
     cdef double *sqw
@@ -1357,34 +1358,31 @@ def solve_columns(
                 # needs a second pass (the floor needs the new maximum); it is only made when
                 # the first pass finds an output with |term| > tolerance |sum|, since
                 # otherwise the change cannot exceed the tolerance.
+                # (radm holds (sun, position, direction, view cosine) in the order of the
+                # output's leading axes; the column's outputs are one contiguous block)
                 change = 0.0
                 biggest = 0.0
                 unsettled = False
                 for a in range(sz.nva):
                     sc.cosm[a] = cos(mode * view_azimuths[a])
-                for s in range(sz.nsun):
-                    for p in range(sz.npos):
-                        for i in range(2):
-                            for u in range(sz.nvz):
-                                value = sc.radm[((s * sz.npos + p) * 2 + i) * sz.nvz + u]
-                                for a in range(sz.nva):
-                                    cm = sc.cosm[a] * value
-                                    radiance[col, s, p, i, u, a] += cm
-                                    size = fabs(radiance[col, s, p, i, u, a])
-                                    biggest = max(biggest, size)
-                                    if fabs(cm) > fourier_tolerance * size:
-                                        unsettled = True
+                total_out = &radiance[col, 0, 0, 0, 0, 0]
+                for q in range(sz.nsun * sz.npos * 2 * sz.nvz):
+                    value = sc.radm[q]
+                    for a in range(sz.nva):
+                        cm = sc.cosm[a] * value
+                        total_out[q * sz.nva + a] += cm
+                        size = fabs(total_out[q * sz.nva + a])
+                        biggest = max(biggest, size)
+                        if fabs(cm) > fourier_tolerance * size:
+                            unsettled = True
                 if mode > 0 and unsettled:
                     floor_value = 1e-300 + 1e-14 * biggest
-                    for s in range(sz.nsun):
-                        for p in range(sz.npos):
-                            for i in range(2):
-                                for u in range(sz.nvz):
-                                    value = sc.radm[((s * sz.npos + p) * 2 + i) * sz.nvz + u]
-                                    for a in range(sz.nva):
-                                        cm = sc.cosm[a] * value
-                                        size = fabs(radiance[col, s, p, i, u, a])
-                                        change = max(change, fabs(cm) / max(size, floor_value))
+                    for q in range(sz.nsun * sz.npos * 2 * sz.nvz):
+                        value = fabs(sc.radm[q])
+                        for a in range(sz.nva):
+                            size = fabs(total_out[q * sz.nva + a])
+                            change = max(change, fabs(sc.cosm[a]) * value
+                                         / max(size, floor_value))
                 if mode > 0:
                     if change <= fourier_tolerance:
                         small_run = small_run + 1
