@@ -316,6 +316,35 @@ def test_dexp_hook_matches_the_direct_formula_and_its_limit():
     assert _kernel.dexp_for_tests(2.0, 2.0 + 1e-12, 0.5) == pytest.approx(0.5 * np.exp(-1.0))
 
 
+def test_cached_exponential_differences_match_expm1():
+    # the whole-layer integrals take 1 - exp(-x) from cached exponentials when x > 0.5 and
+    # from expm1 below: both branches and the switch against (e^-aL - e^-bL)/(b - a) in
+    # extended precision (numpy longdouble, 64-bit mantissa; common practice)
+    rng = np.random.default_rng(3)
+    for _ in range(400):
+        a = 0.0 if rng.random() < 0.3 else 10.0 ** rng.uniform(-3, 2)
+        b = a + 10.0 ** rng.uniform(-6, 2) * rng.choice([-1.0, 1.0]) if a > 0 else \
+            10.0 ** rng.uniform(-3, 2)
+        b = abs(b)
+        length = 10.0 ** rng.uniform(-4, 1.5)
+        la, lb, ll = np.longdouble(a), np.longdouble(b), np.longdouble(length)
+        if a == b:
+            continue
+        # e^-aL - e^-bL cancels for a close to b even in extended precision: use the
+        # identity (e^-aL - e^-bL)/(b - a) = e^(-min(a,b) L) L (1 - e^-x)/x, x = |b - a| L
+        x = abs(lb - la) * ll
+        exact = np.exp(-min(la, lb) * ll) * ll * (-np.expm1(-x) / x)
+        got = _kernel.dexp_cached_for_tests(a, b, length)
+        if exact == 0.0:
+            assert got == 0.0
+            continue
+        # a few ulp, plus exp's argument rounding (relative error of e^-aL is up to aL eps,
+        # amplified at most 4.1 times by the difference in the cached branch, x > 0.5)
+        eps = np.finfo(float).eps
+        allowed = 16 * eps + 6 * eps * max(a, b) * length
+        assert abs(got - float(exact)) <= allowed * abs(float(exact)), (a, b, length)
+
+
 def test_legendre_hook_matches_scipy():
     # normalised associated Legendre functions sqrt((l-m)!/(l+m)!) |P_l^m| vs scipy.special
     from scipy.special import factorial, lpmv

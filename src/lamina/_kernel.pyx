@@ -1411,6 +1411,13 @@ def dexp_for_tests(double a, double b, double length):
     return dexp(a, b, length)
 
 
+def dexp_cached_for_tests(double a, double b, double length):
+    """Test hook: dexp_cached and dexp_from_zero (a = 0) from the exponentials they are given."""
+    if a == 0.0:
+        return dexp_from_zero(b, length, exp(-b * length))
+    return dexp_cached(a, b, length, exp(-a * length), exp(-b * length))
+
+
 def legendre_for_tests(Py_ssize_t m, Py_ssize_t nl, const double[::1] x):
     """Test hook: normalised associated Legendre table, shape (len(x), nl)."""
     out = np.zeros(x.shape[0] * nl)
