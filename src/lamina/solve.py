@@ -383,9 +383,10 @@ def _single_scattering_correction(
     table = phase.legendre_polynomials(flat[:, 0, :], terms)
     weighted_phase = _contract(difference, table).reshape(ncol, moments.shape[1], *shape)
     correction = np.zeros((ncol, nsun, position_layer.size, 2, *shape[2:]))
-    _kernel.single_scattering(tau_s, np.ones_like(tau_s), weighted_phase, mu0,
-                              np.ascontiguousarray(irradiance, dtype=np.float64),
-                              position_layer, position_fraction, view_cosines, 1.0, correction)
+    _kernel.single_scattering(
+        tau_s, np.ones_like(tau_s), np.ascontiguousarray(weighted_phase), mu0,
+        np.ascontiguousarray(irradiance, dtype=np.float64), position_layer, position_fraction,
+        view_cosines, 1.0, correction)
     return correction
 
 
