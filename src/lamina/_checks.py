@@ -24,7 +24,8 @@ def as_float_array(value: object, name: str) -> np.ndarray:
     return np.require(array, requirements="C")
 
 
-def _where(index: tuple[int, ...], labels: Sequence[str] | None) -> str:
+def where_text(index: tuple[int, ...], labels: Sequence[str] | None) -> str:
+    """Where a bad value sits, for messages: "wavelength 3, layer 0" or "index (3, 0)"."""
     if not index:
         return "the value"
     if labels is None:
@@ -44,7 +45,7 @@ def require_finite(array: np.ndarray, name: str, labels: Sequence[str] | None = 
     bad = first_bad(~np.isfinite(array))
     if bad is not None:
         raise ValueError(
-            f"{name} must be finite; {_where(bad, labels)} has {array[bad] if bad else array}"
+            f"{name} must be finite; {where_text(bad, labels)} has {array[bad] if bad else array}"
         )
 
 
@@ -75,5 +76,5 @@ def require_range(
         value = array[bad] if bad else array
         raise ValueError(
             f"{name} must lie in {left}{low_text}, {high_text}{right}; "
-            f"{_where(bad, labels)} has {float(value):g}"
+            f"{where_text(bad, labels)} has {float(value):g}"
         )

@@ -12,7 +12,7 @@ from collections.abc import Sequence
 import numpy as np
 import xarray as xr
 
-from lamina._checks import _where, as_float_array, first_bad, require_range
+from lamina._checks import as_float_array, first_bad, require_range, where_text
 
 ArrayLike = object
 
@@ -171,12 +171,12 @@ def check_moment_values(values: np.ndarray, labels: list[str] | None = None) -> 
     require_range(values, "phase_moments", labels=labels)
     bad = first_bad(np.abs(values[..., 0] - 1.0) > MOMENT_TOLERANCE)
     if bad is not None:
-        place = _where(bad, labels) if bad else "the phase function"
+        place = where_text(bad, labels) if bad else "the phase function"
         raise ValueError(f"phase_moments must start with chi_0 = 1; {place} has "
                          f"chi_0 = {values[..., 0][bad]:g}")
     bad = first_bad(np.abs(values) > 1.0 + MOMENT_TOLERANCE)
     if bad is not None:
-        raise ValueError(f"phase_moments must satisfy |chi_l| <= 1; {_where(bad, labels)} "
+        raise ValueError(f"phase_moments must satisfy |chi_l| <= 1; {where_text(bad, labels)} "
                          f"has {values[bad]:g}")
 
 
