@@ -142,3 +142,21 @@ def test_aureole_correction_is_consistent_across_layer_splits(cloud):
     a = lamina.solve(one, streams=16, output_levels=[0.25, 1.0], **options)
     b = lamina.solve(three, streams=16, output_levels=[1.0, 3.0], **options)
     assert np.allclose(a.radiance, b.radiance, rtol=1e-8)
+
+
+def test_radiance_far_from_the_beam_stays_non_negative():
+    # found by the long hypothesis profile: a conservative g = 0.75 layer over a thick
+    # absorbing one, 4 streams, sun at zenith, view 69 deg from the beam. Far from the
+    # beam the aureole correction's small-angle series rang to -2.5e-5 against a radiance
+    # of 1.8e-5 at the bottom; a radiance is light and cannot be negative
+    moments = np.stack([lamina.phase.henyey_greenstein(g, 32) for g in (0.0, 0.0, 0.75, 0.0)])
+    atm = lamina.make_atmosphere([0.0, 0.0, 1.0, 3.0], [1.0, 1.0, 1.0, 0.0], moments)
+    options = dict(streams=4, sun_zenith=0.0, view_zenith=[69.0], view_azimuth=[0.0])
+    out = lamina.solve(atm, **options)
+    assert np.all(out.radiance.values >= 0.0)
+    # above the absorbing layer nothing was clipped: the same as without the correction's
+    # guard, i.e. the aureole term is still added there
+    plain = lamina.solve(atm, aureole_correction=False, **options)
+    down = out.radiance.sel(direction="down").values.ravel()
+    assert down[3] != plain.radiance.sel(direction="down").values.ravel()[3]
+    assert down[3] > 0.0

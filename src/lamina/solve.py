@@ -312,6 +312,12 @@ def _block(
                     tau, albedo, moments, truncation, mu0, irradiance, position_layer,
                     position_fraction, view_cosines, view_azimuths, streams,
                 )
+                # the correction is a small-angle approximation (slant path t / mu0 for
+                # every path) written as a truncated Legendre series: far from the beam,
+                # where it does not hold, its ringing can exceed a small radiance (found:
+                # a thick absorbing layer under a cloud, 4 streams, 69 deg from the beam,
+                # -2.5e-5 against 1.8e-5). A radiance is kept non-negative.
+                np.maximum(radiance[:, :, :, 1], 0.0, out=radiance[:, :, :, 1])
         outputs.append(radiance)
     outputs = [array.reshape(*lead, *array.shape[1:]) for array in outputs]
     outputs.append(terms.reshape(lead))
@@ -521,7 +527,9 @@ def solve(
         With delta-M and the single-scattering correction, add the light scattered several
         times inside the forward peak to downward radiances (a small-angle sum over all
         orders whose second-order term is the secondary correction of Nakajima and Tanaka
-        1988); it matters in the aureole around the sun seen from below a cloud.
+        1988); it matters in the aureole around the sun seen from below a cloud. Far from
+        the beam, where its small-angle approximation fails, it can overshoot a small
+        downward radiance; such radiances are kept at zero rather than negative.
     fourier_tolerance : float
         The azimuthal series stops after two consecutive terms that change no requested
         radiance by more than this fraction.
