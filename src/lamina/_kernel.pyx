@@ -56,7 +56,7 @@ tolerances.
 
 from libc.math cimport cos, exp, expm1, fabs, isfinite, sqrt
 from libc.string cimport memcpy
-from scipy.linalg.cython_blas cimport dgemm, dtrmm, dtrsm
+from scipy.linalg.cython_blas cimport dgemm, dtrmm, dtrsm, dtrsv
 from scipy.linalg.cython_lapack cimport dgbtrf, dgbtrs, dgesvd, dpotrf
 
 from lamina._lapack_int cimport lapack_int
@@ -235,8 +235,6 @@ cdef struct Scratch:
     double *uu        # [n x n] left singular vectors of Z
     double *vt        # [n x n] right singular vectors of Z, transposed
     double *zz        # [n x n]
-    double *rmu       # [n] 1 / mu
-    double *rsqw      # [n] 1 / sqrt(weight)
     double *vec1      # [n]
     double *vec2      # [n]
     double *vec3      # [n]
@@ -327,7 +325,8 @@ cdef void scattering_matrices(Sizes *sz, Scratch *sc, Py_ssize_t mode,
 
 
 cdef int layer_eigen(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer, double w,
-                     Py_ssize_t *failed_code, lapack_int *failed_info) noexcept nogil:
+                     const double *mu, const double *sqw, Py_ssize_t *failed_code,
+                     lapack_int *failed_info) noexcept nogil:
     """Eigen-solution of one layer and Fourier term (after scattering_matrices).
 
     Leaves k, the normalised mode vectors gp, gm and, for the particular solutions, the
@@ -335,7 +334,7 @@ cdef int layer_eigen(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer, doubl
     """
     cdef Py_ssize_t n = sz.n, i, j, kk
     cdef lapack_int ni = <lapack_int>n, info = 0
-    cdef double one = 1.0, big, s, d, scale
+    cdef double one = 1.0, big, s, d
     cdef double *kall = sc.kall + 2 * n * n * layer
     cdef double *rf = sc.rf
     cdef double *lf = sc.lf
@@ -371,7 +370,7 @@ cdef int layer_eigen(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer, doubl
         for i in range(j):
             sc.zz[i + j * n] = 0.0
         for i in range(j, n):
-            sc.zz[i + j * n] = lf[i + j * n] * sc.rmu[i]
+            sc.zz[i + j * n] = lf[i + j * n] / mu[i]
     dtrmm(&side_l, &uplo_u, &trans_n, &diag_n, &ni, &ni, &one, rf, &ni, sc.zz, &ni)
     dgesvd(&job_a, &job_a, &ni, &ni, sc.zz, &ni, kv, uu, &ni, vt, &ni, sc.work, &sc.lwork,
            &info)
@@ -395,20 +394,23 @@ cdef int layer_eigen(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer, doubl
         for i in range(n):
             s = ss[i + kk * n]
             d = -tt[i + kk * n]
-            gp[i + kk * n] = 0.5 * (s + d) * sc.rsqw[i]
-            gm[i + kk * n] = 0.5 * (s - d) * sc.rsqw[i]
+            gp[i + kk * n] = 0.5 * (s + d) / sqw[i]
+            gm[i + kk * n] = 0.5 * (s - d) / sqw[i]
             big = max(big, max(fabs(gp[i + kk * n]), fabs(gm[i + kk * n])))
+        # (divisions, not products with reciprocals: a zero-thickness layer must pass the
+        # field on exactly, and a reciprocal's rounding spoils that by up to 1e-9 of the
+        # flux in conservative stacks next to a steep Planck slope, found by the long
+        # hypothesis profile)
         if big > 0.0:
-            scale = 1.0 / big
             for i in range(n):
-                gp[i + kk * n] = gp[i + kk * n] * scale
-                gm[i + kk * n] = gm[i + kk * n] * scale
+                gp[i + kk * n] /= big
+                gm[i + kk * n] /= big
     return 0
 
 
 cdef void beam_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
-                          Py_ssize_t mode, Py_ssize_t sun, double amplitude,
-                          double mu0) noexcept nogil:
+                          Py_ssize_t mode, Py_ssize_t sun, double amplitude, double mu0,
+                          const double *sqw) noexcept nogil:
     """Particular solution Z e^{-(t - t_top)/mu0} for the beam source of one layer.
 
     ``amplitude`` = w S (2 - delta_m0) / (4 pi) times the beam transmittance to the top.
@@ -459,26 +461,30 @@ cdef void beam_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
     column_dots(ss, n, 1, sc.vec3, n, n, sc.vec1)
     column_dots(tt, n, 1, sc.zz, n, n, sc.vec2)
     for i in range(n):
-        zp[i] = 0.5 * (sc.vec1[i] + sc.vec2[i]) * sc.rsqw[i]
-        zm[i] = 0.5 * (sc.vec1[i] - sc.vec2[i]) * sc.rsqw[i]
+        zp[i] = 0.5 * (sc.vec1[i] + sc.vec2[i]) / sqw[i]
+        zm[i] = 0.5 * (sc.vec1[i] - sc.vec2[i]) / sqw[i]
 
 
 cdef void thermal_particular(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t layer,
                              const double *mu, const double *sqw) noexcept nogil:
     """Particular solution B0 + B1 (t - t_top) +- B1 (a + b)^-1 M 1 of the linear Planck source.
 
-    The symmetrised (a + b)^-1 is Emat^-1 = L^-T L^-1 = T T^T.
+    The symmetrised (a + b)^-1 is Emat^-1 = L^-T L^-1, applied by two triangular solves with
+    the layer's Cholesky factor, which ``layer_eigen`` has just left in ``sc.lf``. (Not as
+    T T^T from the singular vectors: B1 of a thin layer can be ~1e8 B, and T T^T differs
+    from the identity by round-off even where Emat is exactly I, e.g. w = 0.)
     """
     cdef Py_ssize_t n = sz.n, i
-    cdef double *tt = ly.tt + layer * n * n
+    cdef lapack_int ni = <lapack_int>n, one_i = 1
     cdef double b1 = ly.b1[layer], b0 = ly.b0[layer]
+    cdef char uplo_l = b'L', trans_n = b'N', trans_t = b'T', diag_n = b'N'
     for i in range(n):
-        sc.vec2[i] = sqw[i] * mu[i]
-    column_dots(tt, 1, n, sc.vec2, n, n, sc.vec3)
-    column_dots(tt, n, 1, sc.vec3, n, n, sc.vec1)
+        sc.vec1[i] = sqw[i] * mu[i]
+    dtrsv(&uplo_l, &trans_n, &diag_n, &ni, sc.lf, &ni, sc.vec1, &one_i)
+    dtrsv(&uplo_l, &trans_t, &diag_n, &ni, sc.lf, &ni, sc.vec1, &one_i)
     for i in range(n):
-        ly.y0p[layer * n + i] = b0 + b1 * sc.vec1[i] * sc.rsqw[i]
-        ly.y0m[layer * n + i] = b0 - b1 * sc.vec1[i] * sc.rsqw[i]
+        ly.y0p[layer * n + i] = b0 + b1 * sc.vec1[i] / sqw[i]
+        ly.y0m[layer * n + i] = b0 - b1 * sc.vec1[i] / sqw[i]
 
 
 cdef void thermal_slope(Layers *ly, Py_ssize_t layer, Py_ssize_t n, double depth, double w,
@@ -1039,7 +1045,7 @@ def solve_columns(
         "hB": nlay * nvz * n, "zuA": nlay * nsun * nvz, "zuB": nlay * nsun * nvz,
         "s0A": nlay * nvz, "s0B": nlay * nvz, "iup": (nlay + 1) * nsun * nvz,
         "idn": (nlay + 1) * nsun * nvz, "radm": nsun * sz.npos * 2 * nvz,
-        "work": int(work_size) + 8 * n, "mu": n, "wq": n, "sqw": n, "rmu": n, "rsqw": n,
+        "work": int(work_size) + 8 * n, "mu": n, "wq": n, "sqw": n,
         "ek": nlay * n, "eb": nlay * nsun, "e1": n, "e2": n, "ones": n, "eu": nlay * nvz,
         "et": nlay * nvz, "dA": nlay * nvz * n, "dB": nlay * nvz * n,
         "cosm": max(sz.nva, 1), "acc": 2 * n,
@@ -1062,8 +1068,6 @@ def solve_columns(
     sc.lf = base + <Py_ssize_t>offsets["lf"]
     sc.uu = base + <Py_ssize_t>offsets["uu"]
     sc.vt = base + <Py_ssize_t>offsets["vt"]
-    sc.rmu = base + <Py_ssize_t>offsets["rmu"]
-    sc.rsqw = base + <Py_ssize_t>offsets["rsqw"]
     ly.zp = base + <Py_ssize_t>offsets["zp"]
     ly.zm = base + <Py_ssize_t>offsets["zm"]
     ly.y0p = base + <Py_ssize_t>offsets["y0p"]
@@ -1124,8 +1128,6 @@ def solve_columns(
         wq[i] = quadrature_weights[i]
         sqw[i] = sqrt(quadrature_weights[i])
         sc.ones[i] = 1.0
-        sc.rmu[i] = 1.0 / mu[i]
-        sc.rsqw[i] = 1.0 / sqw[i]
     ipiv_buffer = np.zeros(neq * sizeof(lapack_int), dtype=np.uint8)
     ipiv_view = ipiv_buffer
     sc.ipiv = <lapack_int *>&ipiv_view[0]
@@ -1180,7 +1182,7 @@ def solve_columns(
                     w = min(single_scattering_albedo[col, layer], 1.0 - C_CONSERVATIVE_GAP)
                     sc.ce = sc.ceall + layer * sz.nl
                     sc.co = sc.coall + layer * sz.nl
-                    if layer_eigen(&sz, &sc, &ly, layer, w, &failed_code,
+                    if layer_eigen(&sz, &sc, &ly, layer, w, mu, sqw, &failed_code,
                                    &failed_info) != 0:
                         set_status(status, col, failed_code, layer, mode, failed_info)
                         code = 1
@@ -1190,6 +1192,11 @@ def solve_columns(
                     depth = optical_depth[col, layer]
                     for i in range(n):
                         ly.ek[layer * n + i] = exp(-ly.k[layer * n + i] * depth)
+                    if thermal and mode == 0:
+                        # while this layer's Cholesky factor is in the scratch
+                        thermal_slope(&ly, layer, n, depth, w, planck_levels[col, layer],
+                                      planck_levels[col, layer + 1])
+                        thermal_particular(&sz, &sc, &ly, layer, mu, sqw)
                 if code != 0:
                     break
                 # resonance: keep mu0 * k away from 1 in every layer
@@ -1222,11 +1229,7 @@ def solve_columns(
                     for s in range(sz.nsun):
                         x = w * sun_irradiance[col, s] * (1.0 if mode == 0 else 2.0) \
                             / (4.0 * PI) * ly.ttop[layer * sz.nsun + s]
-                        beam_particular(&sz, &sc, &ly, layer, mode, s, x, sc.mu0e[s])
-                    if thermal and mode == 0:
-                        thermal_slope(&ly, layer, n, optical_depth[col, layer], w,
-                                      planck_levels[col, layer], planck_levels[col, layer + 1])
-                        thermal_particular(&sz, &sc, &ly, layer, mu, sqw)
+                        beam_particular(&sz, &sc, &ly, layer, mode, s, x, sc.mu0e[s], sqw)
                     if want_radiance:
                         user_sources(&sz, &sc, &ly, layer, mode, w, wq,
                                      &sun_irradiance[col, 0], thermal)
