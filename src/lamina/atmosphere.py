@@ -7,12 +7,13 @@ broadcast through :func:`lamina.solve` and are carried to every output.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 
 import numpy as np
 import xarray as xr
 
 from lamina._checks import as_float_array, first_bad, require_range, where_text
+from lamina._units import SI_UNITS, to_si
 
 ArrayLike = object
 
@@ -39,9 +40,54 @@ _ATTRS = {
     "pressure": {"units": "Pa", "long_name": "pressure at the level",
                  "standard_name": "air_pressure"},
     "altitude": {"units": "m", "long_name": "altitude of the level", "standard_name": "altitude"},
+    "layer": {"units": "1", "long_name": "layer number, counted from the top"},
+    "level": {"units": "1", "long_name": "level number (layer boundary), counted from the top"},
+    "moment": {"units": "1", "long_name": "Legendre degree l of the phase-function moment"},
 }
 # the CF name above is for aerosol; a generic single-scattering albedo has none
 del _ATTRS["single_scattering_albedo"]["standard_name"]
+
+
+def _padded(value: ArrayLike, name: str) -> np.ndarray:
+    """A float array from nested sequences; rows of different lengths are padded with zeros.
+
+    Phase moments of different lengths per layer (a Rayleigh layer with 3 beside a cloud with
+    128) are common; the missing higher moments of the shorter rows are zero.
+    """
+    if not isinstance(value, list | tuple) or not value:
+        return as_float_array(value, name)
+    try:
+        return as_float_array(value, name)
+    except TypeError:
+        parts = [_padded(part, name) for part in value]
+    if any(part.ndim == 0 for part in parts) or len({part.ndim for part in parts}) > 1:
+        raise TypeError(f"{name} must be numbers nested to one depth; got rows of "
+                        f"{sorted({part.ndim for part in parts})} dimensions")
+    leading = {part.shape[:-1] for part in parts}
+    if len(leading) > 1:
+        raise ValueError(f"{name} rows may differ only in their last axis (the moments); "
+                         f"got shapes {[part.shape for part in parts]}")
+    length = max(part.shape[-1] for part in parts)
+    widths = [[(0, 0)] * (part.ndim - 1) + [(0, length - part.shape[-1])] for part in parts]
+    return np.stack([np.pad(part, width) for part, width in zip(parts, widths, strict=True)])
+
+
+def _dim_names(extra_dims: object) -> list[str] | None:
+    """The names in ``extra_dims`` (a sequence of names, or a mapping of names to values)."""
+    if extra_dims is None:
+        return None
+    if isinstance(extra_dims, str | bytes):
+        raise TypeError(f"extra_dims must be a sequence of dim names or a mapping of names to "
+                        f"coordinate values; got the string {extra_dims!r} "
+                        f"(write [{extra_dims!r}])")
+    if not isinstance(extra_dims, Mapping | Sequence):
+        raise TypeError("extra_dims must be a sequence of dim names or a mapping of names to "
+                        f"coordinate values; got {type(extra_dims).__name__}")
+    names = list(extra_dims)
+    for dim in names:
+        if not isinstance(dim, str):
+            raise TypeError(f"extra_dims must name dims with strings; got {dim!r}")
+    return names
 
 
 def _as_dataarray(
@@ -55,9 +101,11 @@ def _as_dataarray(
                 f"{name} must have the dims {tuple(core)}; it has {value.dims} "
                 f"(missing {tuple(missing)})"
             )
+        if value.dtype.kind not in "biuf":
+            raise TypeError(f"{name} must be real numbers; got values of dtype {value.dtype}")
         data = value.astype(np.float64)
         return data.transpose(..., *core)
-    array = as_float_array(value, name)
+    array = _padded(value, name)
     if array.ndim < len(core):
         raise ValueError(
             f"{name} must have at least {len(core)} dimension(s) {tuple(core)}; "
@@ -76,6 +124,51 @@ def _as_dataarray(
     return xr.DataArray(array, dims=(*names, *core))
 
 
+def _level_variable(value: ArrayLike, name: str, extra_dims: Sequence[str] | None,
+                    units: Mapping[str, str]) -> xr.DataArray:
+    """A level quantity converted to lamina's SI unit (K, Pa, m) from the units it came in."""
+    array = _as_dataarray(value, name, ["level"], extra_dims)
+    given = units.get(name)
+    carried = value.attrs.get("units") if isinstance(value, xr.DataArray) else None
+    if given is not None and carried is not None and given != carried:
+        raise ValueError(f"{name} carries the units attribute {carried!r} but units gives "
+                         f"{given!r}; give one of them")
+    unit = given if given is not None else carried
+    if unit is not None:
+        if array.chunks is not None:
+            array = xr.apply_ufunc(to_si, array, kwargs={"unit": unit, "name": name},
+                                   dask="parallelized", output_dtypes=[np.float64])
+        else:
+            array = array.copy(data=to_si(array.values, unit, name))
+    array.attrs = {}
+    return array
+
+
+def _units_mapping(units: object) -> Mapping[str, str]:
+    if units is None:
+        return {}
+    if not isinstance(units, Mapping):
+        raise TypeError(f"units must be a mapping such as {{'pressure': 'hPa'}}; got "
+                        f"{type(units).__name__}")
+    unknown = sorted(set(units) - set(SI_UNITS))
+    if unknown:
+        raise ValueError(f"units may give the units of {sorted(SI_UNITS)}; got {unknown}")
+    return units
+
+
+def _per_layer(value: ArrayLike, name: str, like: xr.DataArray,
+               extra_dims: Sequence[str] | None) -> xr.DataArray:
+    """A per-layer quantity; a scalar, or a DataArray without ``layer``, holds for all layers."""
+    if isinstance(value, xr.DataArray) and "layer" not in value.dims:
+        if value.dtype.kind not in "biuf":
+            raise TypeError(f"{name} must be real numbers; got values of dtype {value.dtype}")
+        return value.astype(np.float64).broadcast_like(like["layer"]).transpose(..., "layer")
+    if not isinstance(value, xr.DataArray) and np.ndim(value) == 0:
+        number = as_float_array(value, name)
+        return xr.full_like(like, float(number))
+    return _as_dataarray(value, name, ["layer"], extra_dims)
+
+
 def make_atmosphere(
     optical_depth: ArrayLike,
     single_scattering_albedo: ArrayLike,
@@ -84,7 +177,8 @@ def make_atmosphere(
     *,
     pressure: ArrayLike | None = None,
     altitude: ArrayLike | None = None,
-    extra_dims: Sequence[str] | None = None,
+    extra_dims: Sequence[str] | Mapping[str, ArrayLike] | None = None,
+    units: Mapping[str, str] | None = None,
 ) -> xr.Dataset:
     """Build the input Dataset of a layered atmosphere.
 
@@ -92,43 +186,59 @@ def make_atmosphere(
     ----------
     optical_depth : array_like or DataArray, (..., layer)
         Optical thickness of each layer, >= 0, top layer first.
-    single_scattering_albedo : array_like or DataArray, (..., layer)
-        In [0, 1].
+    single_scattering_albedo : float, array_like or DataArray, (..., layer)
+        In [0, 1]. A scalar (or a DataArray without a ``layer`` dim) holds for every layer.
     phase_moments : array_like or DataArray, (..., layer, moment) or (moment,)
         Legendre coefficients chi_l with chi_0 = 1 and |chi_l| <= 1; a single (moment,)
         vector applies to every layer. Any length: the solver uses the terms it needs and
-        the single-scattering correction uses them all.
+        the single-scattering correction uses them all. Rows of different lengths (nested
+        lists, or a list of arrays, one per layer) are padded with zeros.
     temperature : array_like or DataArray, (..., level), optional
-        Level temperatures in K (layer + 1 values, top first), for thermal emission.
-    pressure, altitude : array_like, (level,), optional
-        Level pressures in Pa (increasing downward) and altitudes in m; pressures give
-        heating rates.
-    extra_dims : sequence of str, optional
-        Names of the leading dims of plain arrays, e.g. ``("wavelength",)``.
+        Level temperatures (layer + 1 values, top first), for thermal emission; K unless
+        ``units`` or the DataArray's ``units`` attribute says otherwise.
+    pressure, altitude : array_like or DataArray, (..., level), optional
+        Level pressures (increasing downward) and altitudes; pressures give heating rates.
+        Pa and m unless ``units`` or a DataArray's ``units`` attribute says otherwise. They
+        may vary along the extra dims (one profile per column).
+    extra_dims : sequence of str, or mapping of str to array_like, optional
+        Names of the leading dims of plain arrays, e.g. ``["wavelength"]``. A mapping also
+        gives each dim its coordinate values, e.g. ``{"wavelength": [0.4, 0.5, 0.6]}``
+        (or attach them later with ``atmosphere.assign_coords(wavelength=...)``).
+    units : mapping, optional
+        Units of the level inputs given as plain arrays, e.g. ``{"pressure": "hPa"}``.
+        Any unit of the right dimension that the pint library knows (Pa, hPa, mbar, mb,
+        kPa, bar, atm; K, degC; m, km) is converted to Pa, K and m; anything else is a
+        ValueError.
 
     Returns
     -------
     xarray.Dataset
         Variables ``optical_depth``, ``single_scattering_albedo``, ``phase_moments`` and the
-        optional level variables, with ``units`` and ``long_name`` attributes.
+        optional level variables (in K, Pa and m), with ``units`` and ``long_name``
+        attributes.
 
     Examples
     --------
     >>> import lamina
     >>> atm = lamina.make_atmosphere([0.1, 2.0], [1.0, 0.9], lamina.phase.rayleigh())
     >>> dict(atm.sizes)
-    {'layer': 2, 'moment': 3}
+    {'layer': 2, 'moment': 3, 'level': 3}
+    >>> atm = lamina.make_atmosphere([0.1, 2.0], 0.9, [[1.0, 0.0, 0.1], [1.0, 0.8]],
+    ...                              pressure=[100.0, 500.0, 1000.0], units={"pressure": "hPa"})
+    >>> atm.pressure.values.tolist(), atm.phase_moments.values[1].tolist()
+    ([10000.0, 50000.0, 100000.0], [1.0, 0.8, 0.0])
     """
-    tau = _as_dataarray(optical_depth, "optical_depth", ["layer"], extra_dims)
-    albedo = _as_dataarray(single_scattering_albedo, "single_scattering_albedo", ["layer"],
-                           extra_dims)
+    dims = _dim_names(extra_dims)
+    level_units = _units_mapping(units)
+    tau = _as_dataarray(optical_depth, "optical_depth", ["layer"], dims)
+    albedo = _per_layer(single_scattering_albedo, "single_scattering_albedo", tau, dims)
     if isinstance(phase_moments, xr.DataArray) and "layer" not in phase_moments.dims:
-        moments = _as_dataarray(phase_moments, "phase_moments", ["moment"], extra_dims)
-    elif not isinstance(phase_moments, xr.DataArray) and np.ndim(phase_moments) == 1:
+        moments = _as_dataarray(phase_moments, "phase_moments", ["moment"], dims)
+    elif not isinstance(phase_moments, xr.DataArray) and np.ndim(_padded(
+            phase_moments, "phase_moments")) == 1:
         moments = _as_dataarray(phase_moments, "phase_moments", ["moment"], None)
     else:
-        moments = _as_dataarray(phase_moments, "phase_moments", ["layer", "moment"],
-                                extra_dims)
+        moments = _as_dataarray(phase_moments, "phase_moments", ["layer", "moment"], dims)
     nlayer = tau.sizes["layer"]
     for name, array in (("single_scattering_albedo", albedo), ("phase_moments", moments)):
         if "layer" in array.dims and array.sizes["layer"] != nlayer:
@@ -138,11 +248,10 @@ def make_atmosphere(
     if "layer" not in moments.dims:
         moments = moments.expand_dims(layer=nlayer).transpose(..., "layer", "moment")
     data = {"optical_depth": tau, "single_scattering_albedo": albedo, "phase_moments": moments}
-    if temperature is not None:
-        data["temperature"] = _as_dataarray(temperature, "temperature", ["level"], extra_dims)
-    for name, value in (("pressure", pressure), ("altitude", altitude)):
+    for name, value in (("temperature", temperature), ("pressure", pressure),
+                        ("altitude", altitude)):
         if value is not None:
-            data[name] = _as_dataarray(value, name, ["level"], None)
+            data[name] = _level_variable(value, name, dims, level_units)
     for name in ("temperature", "pressure", "altitude"):
         if name in data and data[name].sizes["level"] != nlayer + 1:
             raise ValueError(
@@ -155,11 +264,31 @@ def make_atmosphere(
         raise ValueError(f"the atmosphere's arrays have conflicting dims: {error}") from error
     ds = ds.assign_coords(layer=np.arange(nlayer), level=np.arange(nlayer + 1),
                           moment=np.arange(ds.sizes["moment"]))
+    ds = _with_extra_coordinates(ds, extra_dims)
     for name in ds.data_vars:
+        ds[name].attrs.update(_ATTRS[name])
+    for name in ("layer", "level", "moment"):
         ds[name].attrs.update(_ATTRS[name])
     ds.attrs["title"] = "lamina atmosphere: layers numbered from the top"
     check_atmosphere(ds)
     return ds
+
+
+def _with_extra_coordinates(ds: xr.Dataset, extra_dims: object) -> xr.Dataset:
+    if not isinstance(extra_dims, Mapping):
+        return ds
+    coords = {}
+    for dim, values in extra_dims.items():
+        if values is None:
+            continue
+        if dim not in ds.dims:
+            raise ValueError(f"extra_dims gives coordinates for {dim!r}, which no input has")
+        values = np.asarray(values)
+        if values.shape != (ds.sizes[dim],):
+            raise ValueError(f"extra_dims[{dim!r}] must have one value per {dim} "
+                             f"({ds.sizes[dim]}); got shape {values.shape}")
+        coords[dim] = values
+    return ds.assign_coords(coords)
 
 
 def check_moment_values(values: np.ndarray, labels: list[str] | None = None) -> None:
