@@ -68,3 +68,110 @@ _EXAMPLES = {
     "temperature": "K or degC",
     "altitude": "m or km",
 }
+
+
+class OutputUnits:
+    """The units of lamina's outputs, as they follow from the sources a run was given.
+
+    Attributes
+    ----------
+    flux, radiance, heating_rate : str
+        UDUNITS strings (valid CF units) for fluxes, radiances and mean intensity, and
+        heating rates.
+    note : str or None
+        How to read them, when they are relative to an input without units.
+    """
+
+    def __init__(self, flux: str, note: str | None = None):
+        self.flux = flux
+        self.note = note
+        self.radiance = _per_steradian(flux)
+        self.heating_rate = _heating(flux)
+
+    def __repr__(self) -> str:
+        return (f"OutputUnits(flux={self.flux!r}, radiance={self.radiance!r}, "
+                f"heating_rate={self.heating_rate!r})")
+
+
+def _per_steradian(flux: str) -> str:
+    if flux == "1":
+        return "sr-1"
+    if flux == "sr":
+        return "1"
+    return f"{flux} sr-1"
+
+
+def _heating(flux: str) -> str:
+    # dT/dt = (g / c_p) dF/dp: K day-1 for fluxes in W m-2, times whatever else F carries
+    # (per nm, per cm-1, or per unit of an irradiance without units)
+    if flux.startswith("W m-2"):
+        return "K day-1" + flux[len("W m-2"):]
+    if flux == "1":
+        return "K day-1 m2 W-1"
+    return f"K day-1 m2 W-1 {flux}"
+
+
+def _strip_per_steradian(unit: str) -> str | None:
+    unit = unit.strip()
+    for suffix in (" sr-1", " sr^-1", "/sr"):
+        if unit.endswith(suffix):
+            return unit[: -len(suffix)].strip()
+    return None
+
+
+def output_units(beam: bool, irradiance_units: str | None, thermal_flux_units: str | None,
+                 top_radiance_units: str | None = None) -> OutputUnits:
+    """Units of the fluxes, radiances and heating rates of one run.
+
+    Parameters
+    ----------
+    beam : bool
+        Whether the run has a stellar beam.
+    irradiance_units : str or None
+        The ``units`` attribute of ``sun_irradiance``, if it has one.
+    thermal_flux_units : str or None
+        "W m-2" for a band-integrated thermal source, "W m-2 cm" for a monochromatic one
+        (per cm-1), None without thermal emission.
+    top_radiance_units : str or None
+        The ``units`` attribute of ``top_diffuse_radiance``, if it has one.
+
+    Returns
+    -------
+    OutputUnits
+        Fluxes in the irradiance's units (or in units of the irradiance, "1", when it has
+        none); with thermal emission, in the thermal source's units, which an irradiance
+        with units must then share.
+    """
+    if thermal_flux_units is not None:
+        if beam and irradiance_units is not None and not _same(irradiance_units,
+                                                               thermal_flux_units):
+            raise ValueError(
+                f"sun_irradiance is in {irradiance_units!r} but the thermal source gives "
+                f"fluxes in {thermal_flux_units!r}: both sources must be in the same units")
+        note = None
+        if beam and irradiance_units is None:
+            note = (f"sun_irradiance has no units attribute and is taken to be in "
+                    f"{thermal_flux_units}, the units of the thermal source")
+        return OutputUnits(thermal_flux_units, note)
+    if beam:
+        if irradiance_units is not None:
+            return OutputUnits(irradiance_units.strip())
+        return OutputUnits("1", "fluxes relative to sun_irradiance (flux per unit of "
+                                "irradiance normal to the beam), radiances per sr of it")
+    if top_radiance_units is not None:
+        flux = _strip_per_steradian(top_radiance_units)
+        if flux is not None:
+            return OutputUnits(flux)
+    return OutputUnits("sr", "fluxes relative to top_diffuse_radiance (flux per unit of "
+                             "radiance), radiances relative to it")
+
+
+def _same(first: str, second: str) -> bool:
+    if first.strip() == second.strip():
+        return True
+    try:
+        ratio = (_registry().Quantity(1.0, _parse(first, "sun_irradiance"))
+                 / _registry().Quantity(1.0, _parse(second, "sun_irradiance")))
+        return bool(ratio.dimensionless and abs(ratio.to("").magnitude - 1.0) < 1e-12)
+    except Exception:
+        return False
