@@ -7,14 +7,6 @@ the input Dataset (through :func:`lamina.make_atmosphere`) and the keyword argum
 :func:`lamina.solve`. Every mistake raises :class:`ScenarioError` naming the file, the key path
 (``[sun] zenith``) and what was expected.
 
-This docstring is the reference of the format. The reader is split by topic into private
-modules that import downward only: ``_tables`` (the TOML table reader and its did-you-mean
-errors; the bottom), ``_spectral`` (``[spectrum]``, Mie constituents, spectral laws),
-``_model`` (the :class:`Scenario` and how it builds the atmosphere and the solver's
-arguments), ``_atmosphere`` (the ``[atmosphere]`` section and phase tables) and
-``_sections`` (``[solver]``, ``[sun]``, ``[view]``, ``[surface]``, ``[thermal]``,
-``[output]``); this module reads a file through them.
-
 The format
 ----------
 Units are fixed unless a quantity is written as ``{values = [...], units = "..."}``; the
@@ -119,6 +111,12 @@ albedo is the scattering-weighted mean and the phase moments are weighted by eac
 constituent's scattering optical depth.
 """
 
+# This docstring is the reference of the format; keep it whole here. The reader is split by
+# topic into private modules that import downward only: _tables (the TOML table reader and
+# its did-you-mean errors; the bottom), _spectral ([spectrum], Mie constituents, spectral
+# laws), _model (the Scenario and how it builds the atmosphere and the solver's arguments),
+# _atmosphere (the [atmosphere] section and phase tables) and _sections ([solver], [sun],
+# [view], [surface], [thermal], [output]); this module reads a file through them.
 
 from __future__ import annotations
 
@@ -130,8 +128,8 @@ from typing import Any
 from lamina.scenario._atmosphere import _parse_atmosphere
 from lamina.scenario._model import Constituent as Constituent  # importable from here as before
 from lamina.scenario._model import Scenario
+from lamina.scenario._sections import OUTPUT_VARIABLES as _OUTPUT_VARIABLES
 from lamina.scenario._sections import (
-    OUTPUT_VARIABLES,
     _parse_output,
     _parse_solver,
     _parse_sun_and_view,
@@ -142,6 +140,11 @@ from lamina.scenario._spectral import _parse_spectrum
 from lamina.scenario._tables import ScenarioError, _Table
 
 __all__ = ["Scenario", "ScenarioError", "load_scenario", "OUTPUT_VARIABLES"]
+
+# Bound here with its doc comment so that the reference of lamina.scenario lists it (the
+# [output] reader in _sections checks names against the same tuple).
+#: Output variables a scenario's ``[output] variables`` may name (lamina.solve's outputs).
+OUTPUT_VARIABLES = _OUTPUT_VARIABLES
 
 def _parse(file: Path, data: Mapping[str, Any]) -> Scenario:
     """Validate the parsed TOML of ``file``, section by section, into a :class:`Scenario`."""
