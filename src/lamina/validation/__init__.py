@@ -12,11 +12,13 @@ The suite compares lamina with those references and with published values:
 * :func:`write_report` writes a markdown report with a figure per case;
 * :func:`list_cases` names the cases. ``lamina validate`` on the command line does the same.
 
-Adding a case: write a function ``compare(settings) -> Comparison`` in
-:mod:`lamina.validation.cases` that calls :func:`lamina.solve` with ``**settings`` and
-returns the reference values beside lamina's (plus curves for the figure), and register it
-in ``CASES`` with its name, source (paper and table or equation, "from memory" where the
-value was recalled), quantity, error kind, tolerance and the reason for it, and settings.
+Adding a case: write a function ``compare(settings) -> Comparison`` in the topic module of
+:mod:`lamina.validation.cases` it belongs to (``isotropic``, ``thermal``, ``scattering``,
+``layers``; a new module for a new topic, importing only from ``cases._common``) that calls
+:func:`lamina.solve` with ``**settings`` and returns the reference values beside lamina's
+(plus curves for the figure), and register it in ``CASES`` (``cases/__init__.py``) with its
+name, source (paper and table or equation, "from memory" where the value was recalled),
+quantity, error kind, tolerance and the reason for it, and settings.
 Give it ``study_streams`` if its error should fall as streams are added.
 
 Examples
