@@ -372,3 +372,29 @@ def test_chunks_with_different_phase_function_lengths_equal_eager():
     for size in (1, 3):
         lazy = lamina.solve(atm.chunk({"wavelength": size}), **options)
         xr.testing.assert_equal(lazy.compute(), eager)
+
+
+# ---------------------------------------------------------------- layout of the front end
+
+
+def test_solver_steps_import_downward_only():
+    # The layout rule of DEVELOPERS.md ("The front end"): a step module of lamina._solver
+    # imports lamina._solver.common and library modules, never another step, so that the
+    # steps can change side by side; only lamina.solve (the driver) imports the steps.
+    import ast
+    from pathlib import Path
+
+    import lamina._solver
+
+    folder = Path(lamina._solver.__file__).parent
+    for path in sorted(folder.glob("*.py")):
+        imported = set()
+        for node in ast.walk(ast.parse(path.read_text())):
+            if isinstance(node, ast.ImportFrom) and node.module:
+                imported.add(node.module)
+            elif isinstance(node, ast.Import):
+                imported.update(alias.name for alias in node.names)
+        steps = {name for name in imported if name.startswith("lamina._solver")}
+        allowed = set() if path.stem in ("common", "__init__") else {"lamina._solver.common"}
+        assert steps <= allowed, (path.name, sorted(steps - allowed))
+        assert "lamina.solve" not in imported, path.name

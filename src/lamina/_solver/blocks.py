@@ -1,0 +1,174 @@
+"""Plan step and the two ends of a block: how the work is cut and each block made ready.
+
+:func:`plan_blocks` lists the DataArrays that every block receives, with their core dims
+(which :func:`xarray.apply_ufunc` keeps whole in each block; the atmosphere's extra dims,
+``wavelength``, ``column``, ..., are the block's leading axes), and the block outputs with
+theirs. :func:`prepare_block` turns one block's numpy arrays into a :class:`Block`:
+broadcast and flattened to one column axis, the values of lazily given inputs checked, the
+negligible tail of the phase moments trimmed. :func:`pack_block` gives the block's outputs
+their leading axes back, in the order of :attr:`BlockPlan.output_names`.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import xarray as xr
+
+from lamina._checks import require_range
+from lamina._solver.common import (
+    POSITION_DIM,
+    SUN_DIM,
+    Block,
+    BlockSettings,
+    Fields,
+    Options,
+    ThermalSources,
+    beam_cosines,
+)
+from lamina.atmosphere import check_moment_values
+
+#: Core dims of the block inputs, in the order of the block function's arguments.
+INPUT_CORE_DIMS = (["layer"], ["layer"], ["layer", "moment"], [SUN_DIM], [SUN_DIM], [],
+                   ["level"], [], [])
+
+#: Phase moments below this magnitude add nothing to any output.
+NEGLIGIBLE_MOMENT = 1e-15
+
+
+@dataclass(frozen=True, eq=False)
+class BlockPlan:
+    """Everything :func:`xarray.apply_ufunc` needs to run the blocks."""
+
+    inputs: list[xr.DataArray]
+    input_core_dims: list[list[str]]
+    output_names: list[str]
+    output_core_dims: list[list[str]]
+    output_dtypes: list[type]
+    output_sizes: dict[str, int]
+    settings: BlockSettings
+
+
+def plan_blocks(atmosphere: xr.Dataset, options: Options, sources: ThermalSources) -> BlockPlan:
+    """The inputs of every block, their core dims, and the outputs' names and dims."""
+    optics = [atmosphere[name] for name in
+              ("optical_depth", "single_scattering_albedo", "phase_moments")]
+    inputs = [*optics, options.sun_zenith, options.sun_irradiance, options.surface_albedo,
+              sources.levels, sources.surface, options.top_diffuse_radiance]
+    views = options.views
+    settings = BlockSettings(
+        streams=options.streams, delta_m=options.delta_m,
+        single_scattering_correction=options.single_scattering_correction,
+        aureole_correction=options.aureole_correction,
+        fourier_tolerance=options.fourier_tolerance,
+        max_fourier_terms=options.max_fourier_terms,
+        thermal=sources.thermal, positions=options.positions, views=views,
+        lazy=any(array.chunks is not None for array in inputs),
+        # check_atmosphere has checked the values of optical properties held in memory
+        optics_checked=all(array.chunks is None for array in optics),
+    )
+    # a core dim must be one dask chunk
+    inputs = [
+        array.chunk({dim: -1 for dim in core}) if array.chunks is not None else array
+        for array, core in zip(inputs, INPUT_CORE_DIMS, strict=True)
+    ]
+    names = ["flux_up", "flux_down_diffuse", "flux_down_direct", "mean_intensity"]
+    core_out = [[SUN_DIM, POSITION_DIM]] * 4
+    sizes = {POSITION_DIM: options.positions.levels.size}
+    if views.wanted:
+        names.append("radiance")
+        core_out.append([SUN_DIM, POSITION_DIM, "direction", "view_zenith", "view_azimuth"])
+        sizes.update(direction=2, view_zenith=views.zenith.size,
+                     view_azimuth=views.azimuth.size)
+    names += ["fourier_terms", "cumulative_optical_depth"]
+    core_out += [[], [POSITION_DIM]]
+    return BlockPlan(
+        inputs=inputs, input_core_dims=[list(core) for core in INPUT_CORE_DIMS],
+        output_names=names, output_core_dims=core_out,
+        output_dtypes=[np.float64] * (len(core_out) - 2) + [np.int64, np.float64],
+        output_sizes=sizes, settings=settings,
+    )
+
+
+def prepare_block(
+    tau: np.ndarray,
+    albedo: np.ndarray,
+    moments: np.ndarray,
+    sun_zenith: np.ndarray,
+    irradiance: np.ndarray,
+    surface_albedo: np.ndarray,
+    planck_levels: np.ndarray,
+    planck_surface: np.ndarray,
+    top_radiance: np.ndarray,
+    settings: BlockSettings,
+) -> Block:
+    """One block's inputs broadcast to (column, ...), checked, with moments trimmed."""
+    lead = np.broadcast_shapes(
+        tau.shape[:-1], albedo.shape[:-1], moments.shape[:-2], sun_zenith.shape[:-1],
+        irradiance.shape[:-1], surface_albedo.shape, planck_levels.shape[:-1],
+        planck_surface.shape, top_radiance.shape,
+    )
+    nlayer = tau.shape[-1]
+    nsun = sun_zenith.shape[-1]
+    nmom = moments.shape[-1]
+    ncol = int(np.prod(lead, dtype=np.int64))
+    tau = np.broadcast_to(tau, (*lead, nlayer)).reshape(ncol, nlayer)
+    albedo = np.broadcast_to(albedo, (*lead, nlayer)).reshape(ncol, nlayer)
+    moments = np.broadcast_to(moments, (*lead, nlayer, nmom)).reshape(ncol, nlayer, nmom)
+    zenith = np.broadcast_to(sun_zenith, (*lead, nsun)).reshape(ncol, nsun)
+    irradiance = np.broadcast_to(irradiance, (*lead, nsun)).reshape(ncol, nsun)
+    surface_albedo = np.broadcast_to(surface_albedo, lead).reshape(ncol)
+    planck_levels = np.broadcast_to(planck_levels, (*lead, nlayer + 1)).reshape(ncol, -1)
+    planck_surface = np.broadcast_to(planck_surface, lead).reshape(ncol)
+    top_radiance = np.broadcast_to(top_radiance, lead).reshape(ncol)
+    # values of lazily given inputs are checked here, chunk by chunk
+    try:
+        if not settings.optics_checked:
+            require_range(tau, "optical_depth", 0.0)
+            require_range(albedo, "single_scattering_albedo", 0.0, 1.0)
+            check_moment_values(moments)
+        require_range(zenith, "sun_zenith", 0.0, 90.0, high_open=True)
+        require_range(irradiance, "sun_irradiance", 0.0)
+        require_range(surface_albedo, "surface_albedo", 0.0, 1.0)
+        require_range(planck_levels, "temperature (as Planck radiance)", 0.0)
+        require_range(top_radiance, "top_diffuse_radiance", 0.0)
+    except ValueError as error:
+        if settings.lazy:
+            raise ValueError(f"{error} (the index counts within one dask chunk)") from None
+        raise
+    return Block(
+        lead=lead, optical_depth=tau, single_scattering_albedo=albedo,
+        phase_moments=_trim_moments(moments), beam_cosines=beam_cosines(zenith),
+        sun_irradiance=irradiance, surface_albedo=surface_albedo,
+        planck_levels=planck_levels, planck_surface=planck_surface,
+        top_diffuse_radiance=top_radiance,
+    )
+
+
+def _trim_moments(moments: np.ndarray) -> np.ndarray:
+    """Moments with the negligible tail of each layer zeroed and the common tail dropped.
+
+    The tail is set to zero per layer (so that no result depends on which other columns share
+    a dask chunk) and dropped where every layer of the block has ended.
+    """
+    nmom = moments.shape[-1]
+    significant = np.abs(moments) > NEGLIGIBLE_MOMENT
+    last = nmom - 1 - np.argmax(significant[..., ::-1], axis=-1)   # (col, layer)
+    last = np.where(significant.any(axis=-1), last, 0)
+    keep = int(last.max()) + 1
+    return np.where(np.arange(keep) <= last[..., None], moments[..., :keep], 0.0)
+
+
+def pack_block(block: Block, fields: Fields, depth: np.ndarray,
+               radiance: bool) -> tuple[np.ndarray, ...]:
+    """The block's outputs with their leading axes back, in the plan's order of names."""
+    outputs = [fields.flux_up, fields.flux_down_diffuse, fields.flux_down_direct,
+               fields.mean_intensity]
+    if radiance:
+        outputs.append(fields.radiance)
+    lead = block.lead
+    outputs = [array.reshape(*lead, *array.shape[1:]) for array in outputs]
+    outputs.append(fields.fourier_terms.reshape(lead))
+    outputs.append(depth.reshape(*lead, depth.shape[-1]))
+    return tuple(outputs)

@@ -1,0 +1,236 @@
+"""The floor of the solver's steps: what several of them share.
+
+The error type, the option constants, the private dim names, the records that one step hands
+to the next, and the geometry helpers (cosines of the beam, of the view directions and of the
+scattering angle; optical depth at the output positions). Every step module imports from
+here and from library modules only, never from another step, so that the steps can change
+(or be added) independently; see :mod:`lamina._solver`.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+import xarray as xr
+
+from lamina._checks import as_float_array, require_range
+
+#: Cosine used for a view zenith of exactly 90 degrees (the limit mu -> 0 is taken there).
+GRAZING_COSINE = 1e-9
+
+#: Earth-air defaults for heating rates: standard gravity (CODATA / ISO 80000) and the
+#: specific heat of dry air at constant pressure near 300 K (common practice).
+EARTH_GRAVITY = 9.80665
+DRY_AIR_HEAT_CAPACITY = 1004.0
+
+SECONDS_PER_DAY = 86400.0
+
+#: Private core dims of the blocks: sun angles and output positions (renamed or dropped in
+#: the output Dataset).
+SUN_DIM = "_sun"
+POSITION_DIM = "_position"
+
+
+class SolverError(RuntimeError):
+    """The kernel could not solve a column (a LAPACK failure or a non-finite result)."""
+
+
+# the public home of the error (tracebacks and pickles name lamina.solve.SolverError, as
+# before the solver was split into steps)
+SolverError.__module__ = "lamina.solve"
+
+
+# ------------------------------------------------------------------ records between steps
+
+
+@dataclass(frozen=True, eq=False)
+class Positions:
+    """Output positions: fractional level numbers, and the layer and fraction of each."""
+
+    levels: np.ndarray
+    layer: np.ndarray
+    fraction: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class Views:
+    """View directions: degrees (the output coordinates) and what the kernel takes."""
+
+    zenith: np.ndarray
+    azimuth: np.ndarray
+    cosines: np.ndarray
+    azimuth_radians: np.ndarray
+
+    @property
+    def wanted(self) -> bool:
+        """True if radiances are asked for (else only the azimuth-independent problem)."""
+        return bool(self.zenith.size and self.azimuth.size)
+
+
+@dataclass(frozen=True, eq=False)
+class Options:
+    """Every option of :func:`lamina.solve`, checked (output of the check step)."""
+
+    streams: int
+    delta_m: bool
+    single_scattering_correction: bool
+    aureole_correction: bool
+    fourier_tolerance: float
+    max_fourier_terms: int
+    #: as given (checked positive); they only scale the heating rate
+    gravity: Any
+    heat_capacity: Any
+    #: sun zenith (degrees) with the private sun dim; True if the user gave a list of suns
+    sun_zenith: xr.DataArray
+    sun_list: bool
+    sun_irradiance: xr.DataArray
+    surface_albedo: xr.DataArray
+    top_diffuse_radiance: xr.DataArray
+    views: Views
+    positions: Positions
+    #: True when outputs are on every level (no output_levels given)
+    on_levels: bool
+
+
+@dataclass(frozen=True, eq=False)
+class ThermalSources:
+    """Planck radiance at the levels and at the surface (zeros without thermal emission)."""
+
+    levels: xr.DataArray
+    surface: xr.DataArray
+    #: units of the Planck radiance, None without thermal emission
+    units: str | None
+
+    @property
+    def thermal(self) -> bool:
+        """True if there is thermal emission."""
+        return self.units is not None
+
+
+@dataclass(frozen=True, eq=False)
+class BlockSettings:
+    """What every block of columns needs, the same for all blocks."""
+
+    streams: int
+    delta_m: bool
+    single_scattering_correction: bool
+    aureole_correction: bool
+    fourier_tolerance: float
+    max_fourier_terms: int
+    thermal: bool
+    positions: Positions
+    views: Views
+    #: True if any input is dask-backed (error messages then say an index is in a chunk)
+    lazy: bool
+    #: True if check_atmosphere has seen the values of the optical properties
+    optics_checked: bool
+
+
+@dataclass(frozen=True, eq=False)
+class Block:
+    """One block of columns, flattened to a leading column axis and checked.
+
+    ``lead`` is the block's broadcast shape of leading axes (restored by the pack step).
+    ``phase_moments`` have their tail below 1e-15 trimmed; ``beam_cosines`` are mu0 of every
+    column and sun.
+    """
+
+    lead: tuple[int, ...]
+    optical_depth: np.ndarray
+    single_scattering_albedo: np.ndarray
+    phase_moments: np.ndarray
+    beam_cosines: np.ndarray
+    sun_irradiance: np.ndarray
+    surface_albedo: np.ndarray
+    planck_levels: np.ndarray
+    planck_surface: np.ndarray
+    top_diffuse_radiance: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class Layers:
+    """The layers the kernel sees (delta-M scaled, or not), and the truncated fraction f."""
+
+    optical_depth: np.ndarray
+    single_scattering_albedo: np.ndarray
+    phase_moments: np.ndarray
+    truncation: np.ndarray
+
+
+@dataclass(eq=False)
+class Fields:
+    """The radiation field of one block, (column, sun, position, ...); filled step by step.
+
+    The kernel gives every field of the scaled problem; the corrections then report the
+    direct beam unscaled (``flux_down_direct``) and correct the radiances.
+    """
+
+    flux_up: np.ndarray
+    flux_down_diffuse: np.ndarray
+    mean_intensity: np.ndarray
+    radiance: np.ndarray
+    fourier_terms: np.ndarray
+    flux_down_direct: np.ndarray | None = None
+
+
+# ------------------------------------------------------------------ option arrays
+
+
+def option_array(value: object, name: str) -> xr.DataArray:
+    """A scalar or DataArray option as a DataArray (0-d for scalars)."""
+    if isinstance(value, xr.DataArray):
+        return value.astype(np.float64)
+    array = as_float_array(value, name)
+    if array.ndim != 0:
+        raise ValueError(
+            f"{name} must be a scalar or an xarray.DataArray along the atmosphere's extra "
+            f"dims; got an array of shape {array.shape}"
+        )
+    return xr.DataArray(array)
+
+
+def check_option_values(array: xr.DataArray, name: str, **bounds: Any) -> None:
+    """Range check of an option's values held in memory (lazy ones: in each block)."""
+    if array.chunks is None:
+        labels = ["sun angle" if dim == SUN_DIM else str(dim) for dim in array.dims]
+        require_range(np.asarray(array.values), name, labels=labels, **bounds)
+
+
+# ------------------------------------------------------------------ geometry
+
+
+def beam_cosines(sun_zenith: np.ndarray) -> np.ndarray:
+    """mu0 = cos(theta_0) of sun zenith angles in degrees, C-contiguous."""
+    return np.ascontiguousarray(np.cos(np.radians(sun_zenith)))
+
+
+def view_cosines(view_zenith: np.ndarray) -> np.ndarray:
+    """cos of view zenith angles in degrees; 90 degrees becomes GRAZING_COSINE."""
+    return np.maximum(np.cos(np.radians(view_zenith)), GRAZING_COSINE)
+
+
+def scattering_cosines(mu0: np.ndarray, views: Views) -> np.ndarray:
+    """cos of the scattering angle from the beam into each view direction.
+
+    The beam propagates along -mu0; the view directions are up (+mu) and down (-mu) at each
+    relative azimuth. Returns (column, sun, direction, view_zenith, view_azimuth), direction
+    0 up and 1 down.
+    """
+    sin0 = np.sqrt(1.0 - mu0**2)[:, :, None, None, None]
+    cos0 = mu0[:, :, None, None, None]
+    sign = np.array([1.0, -1.0])[None, None, :, None, None]
+    muv = views.cosines[None, None, None, :, None]
+    sinv = np.sqrt(1.0 - muv**2)
+    azimuth = np.cos(views.azimuth_radians)[None, None, None, None, :]
+    cosine = -sign * muv * cos0 + sinv * sin0 * azimuth
+    return np.clip(cosine, -1.0, 1.0)
+
+
+def depth_at_positions(optical_depth: np.ndarray, positions: Positions) -> np.ndarray:
+    """Optical depth from the top at each output position, (column, position)."""
+    ncol = optical_depth.shape[0]
+    top = np.concatenate([np.zeros((ncol, 1)), np.cumsum(optical_depth, axis=1)], axis=1)
+    layer = positions.layer
+    return top[:, layer] + positions.fraction * optical_depth[:, layer]

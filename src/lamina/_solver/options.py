@@ -1,0 +1,149 @@
+"""Check step: the solver's options and geometry, before any work is planned.
+
+Scalar options (streams, the Fourier series controls, the heating-rate constants), the sun
+geometry (one angle or a list of suns sharing one homogeneous solution), the beam, surface
+and top-boundary options as DataArrays along the atmosphere's extra dims, the view
+directions and the output positions (fractional level numbers). Values held in memory are
+checked here; values of dask-backed options are checked block by block
+(:func:`lamina._solver.blocks.prepare_block`). The checks run in the order of the
+arguments of :func:`lamina.solve`, so that the first bad argument is the one reported.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import xarray as xr
+
+from lamina._checks import as_float_array, require_range
+from lamina._solver.common import (
+    SUN_DIM,
+    Options,
+    Positions,
+    Views,
+    check_option_values,
+    option_array,
+    view_cosines,
+)
+
+
+def check_options(
+    atmosphere: xr.Dataset,
+    *,
+    streams: object,
+    sun_zenith: object,
+    sun_irradiance: object,
+    surface_albedo: object,
+    view_zenith: object,
+    view_azimuth: object,
+    top_diffuse_radiance: object,
+    output_levels: object,
+    delta_m: object,
+    single_scattering_correction: object,
+    aureole_correction: object,
+    fourier_tolerance: object,
+    max_fourier_terms: object,
+    gravity: object,
+    heat_capacity: object,
+) -> Options:
+    """Every option of :func:`lamina.solve` except the thermal source, checked."""
+    streams = _check_streams(streams)
+    tolerance = float(as_float_array(fourier_tolerance, "fourier_tolerance"))
+    if not (np.isfinite(tolerance) and tolerance > 0.0):
+        raise ValueError(f"fourier_tolerance must be positive; got {tolerance:g}")
+    if max_fourier_terms is None:
+        max_terms = streams
+    else:
+        max_terms = int(max_fourier_terms)
+        if max_terms < 1:
+            raise ValueError(f"max_fourier_terms must be >= 1; got {max_fourier_terms}")
+    for name, value in (("gravity", gravity), ("heat_capacity", heat_capacity)):
+        number = float(as_float_array(value, name))
+        if not (np.isfinite(number) and number > 0.0):
+            raise ValueError(f"{name} must be positive; got {number:g}")
+
+    zenith, sun_list = sun_geometry(sun_zenith)
+    check_option_values(zenith, "sun_zenith", low=0.0, high=90.0, high_open=True)
+    irradiance = option_array(sun_irradiance, "sun_irradiance")
+    check_option_values(irradiance, "sun_irradiance", low=0.0)
+    if SUN_DIM not in irradiance.dims:
+        irradiance = irradiance.expand_dims({SUN_DIM: zenith.sizes[SUN_DIM]})
+    albedo = option_array(surface_albedo, "surface_albedo")
+    check_option_values(albedo, "surface_albedo", low=0.0, high=1.0)
+    top = option_array(top_diffuse_radiance, "top_diffuse_radiance")
+    check_option_values(top, "top_diffuse_radiance", low=0.0)
+    return Options(
+        streams=streams, delta_m=bool(delta_m),
+        single_scattering_correction=bool(single_scattering_correction),
+        aureole_correction=bool(aureole_correction),
+        fourier_tolerance=tolerance, max_fourier_terms=max_terms,
+        gravity=gravity, heat_capacity=heat_capacity,
+        sun_zenith=zenith, sun_list=sun_list, sun_irradiance=irradiance,
+        surface_albedo=albedo, top_diffuse_radiance=top,
+        views=view_angles(view_zenith, view_azimuth),
+        positions=output_positions(output_levels, atmosphere.sizes["layer"]),
+        on_levels=output_levels is None,
+    )
+
+
+def _check_streams(streams: object) -> int:
+    if isinstance(streams, bool) or not isinstance(streams, int | np.integer):
+        raise ValueError(f"streams must be an even integer >= 2; got {streams!r}")
+    if streams < 2 or streams % 2:
+        raise ValueError(f"streams must be an even integer >= 2; got {streams}")
+    return int(streams)
+
+
+def sun_geometry(sun_zenith: object) -> tuple[xr.DataArray, bool]:
+    """Sun zenith as a DataArray with the private sun dim; True if the user gave a list."""
+    if isinstance(sun_zenith, xr.DataArray):
+        zenith = sun_zenith.astype(np.float64)
+        if "sun_zenith" in zenith.dims:
+            zenith = zenith.rename({"sun_zenith": SUN_DIM}).drop_vars(SUN_DIM, errors="ignore")
+            return zenith, True
+        return zenith.expand_dims({SUN_DIM: 1}), False
+    array = as_float_array(sun_zenith, "sun_zenith")
+    if array.ndim == 0:
+        return xr.DataArray(array[None], dims=(SUN_DIM,)), False
+    if array.ndim == 1 and array.size >= 1:
+        return xr.DataArray(array, dims=(SUN_DIM,)), True
+    raise ValueError(f"sun_zenith must be a scalar, a 1-D list or a DataArray; got shape "
+                     f"{array.shape}")
+
+
+def view_angles(view_zenith: object, view_azimuth: object) -> Views:
+    """The view directions (none: fluxes only), checked."""
+    if view_zenith is None and view_azimuth is None:
+        zenith, azimuth = np.zeros(0), np.zeros(0)
+    else:
+        if view_zenith is None or view_azimuth is None:
+            raise ValueError("view_zenith and view_azimuth must be given together (or "
+                             "neither, for fluxes only)")
+        zenith = np.atleast_1d(as_float_array(view_zenith, "view_zenith"))
+        azimuth = np.atleast_1d(as_float_array(view_azimuth, "view_azimuth"))
+        if zenith.ndim != 1 or azimuth.ndim != 1 or zenith.size == 0 or azimuth.size == 0:
+            raise ValueError("view_zenith and view_azimuth must be non-empty 1-D lists of "
+                             "degrees")
+        require_range(zenith, "view_zenith", 0.0, 90.0, labels=["view angle"])
+        require_range(azimuth, "view_azimuth", labels=["view angle"])
+        if np.unique(zenith).size != zenith.size:
+            raise ValueError("view_zenith must not repeat a value")
+        if np.unique(azimuth).size != azimuth.size:
+            raise ValueError("view_azimuth must not repeat a value")
+    return Views(zenith=zenith, azimuth=azimuth, cosines=view_cosines(zenith),
+                 azimuth_radians=np.radians(azimuth))
+
+
+def output_positions(output_levels: object, nlayer: int) -> Positions:
+    """Layer index and fraction of each output position (fractional level numbers)."""
+    if output_levels is None:
+        levels = np.arange(nlayer + 1, dtype=np.float64)
+    else:
+        levels = np.atleast_1d(as_float_array(output_levels, "output_levels"))
+        if levels.ndim != 1 or levels.size == 0:
+            raise ValueError("output_levels must be a non-empty 1-D list of fractional level "
+                             "numbers")
+        require_range(levels, "output_levels", 0.0, float(nlayer), labels=["position"])
+    layer = np.minimum(np.floor(levels), nlayer - 1).astype(np.intp)
+    fraction = levels - layer
+    return Positions(levels=levels, layer=np.ascontiguousarray(layer),
+                     fraction=np.ascontiguousarray(fraction))

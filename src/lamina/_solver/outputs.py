@@ -1,0 +1,182 @@
+"""Describe step: the blocks' arrays as the output Dataset.
+
+Names and coordinates (the private sun and position dims become ``sun_zenith`` and
+``level``, or are dropped for a single sun), the derived outputs (total and net flux,
+actinic flux, flux divergence and heating rate), and the units, long names, CF standard
+names and solver settings of every variable (CF-1.10). A new output (a Stokes component, a
+derivative) gets its name, dims and description here.
+"""
+
+from __future__ import annotations
+
+import datetime as _datetime
+
+import numpy as np
+import xarray as xr
+
+from lamina._solver.common import (
+    POSITION_DIM,
+    SECONDS_PER_DAY,
+    SUN_DIM,
+    BlockSettings,
+    Options,
+    ThermalSources,
+)
+
+
+def assemble(
+    results: tuple[xr.DataArray, ...],
+    names: list[str],
+    atmosphere: xr.Dataset,
+    options: Options,
+    sources: ThermalSources,
+    settings: BlockSettings,
+) -> xr.Dataset:
+    """The output Dataset from the blocks' outputs (named in the plan's order)."""
+    out = _labelled(results, names, atmosphere, options)
+    out = _derived(out, atmosphere, options)
+    _describe(out, sources.units, settings)
+    return out
+
+
+def _labelled(results, names, atmosphere: xr.Dataset, options: Options) -> xr.Dataset:
+    """The blocks' outputs with the public dims and coordinates."""
+    out = xr.Dataset(dict(zip(names, results, strict=True)))
+    out = out.rename({POSITION_DIM: "level"})
+    depth = out["cumulative_optical_depth"]
+    out = out.drop_vars("cumulative_optical_depth").assign_coords(
+        level=(options.positions.levels if not options.on_levels
+               else np.arange(atmosphere.sizes["layer"] + 1)),
+        cumulative_optical_depth=depth,
+    )
+    views = options.views
+    if views.wanted:
+        out = out.assign_coords(direction=["up", "down"], view_zenith=views.zenith,
+                                view_azimuth=views.azimuth)
+    zenith = options.sun_zenith
+    if options.sun_list:
+        out = out.rename({SUN_DIM: "sun_zenith"})
+        if "sun_zenith" not in out.coords and zenith.ndim == 1:
+            out = out.assign_coords(sun_zenith=zenith.values)
+    else:
+        out = out.isel({SUN_DIM: 0}, drop=True)
+        if zenith.ndim == 1:
+            out = out.assign_coords(sun_zenith=float(zenith.values[0]))
+    for name, coordinate in atmosphere.coords.items():
+        if name in out.coords and name not in ("level", "layer") and coordinate.attrs:
+            out[name].attrs = dict(coordinate.attrs)
+    return out
+
+
+def _derived(out: xr.Dataset, atmosphere: xr.Dataset, options: Options) -> xr.Dataset:
+    """Total, net and actinic flux; on every level also flux divergence and heating rate."""
+    on_levels = options.on_levels
+    out["flux_down"] = out["flux_down_diffuse"] + out["flux_down_direct"]
+    out["flux_net"] = out["flux_down"] - out["flux_up"]
+    out["actinic_flux"] = 4.0 * np.pi * out["mean_intensity"]
+    for name in ("pressure", "altitude"):
+        if name in atmosphere and on_levels:
+            out = out.assign_coords({name: ("level", np.asarray(atmosphere[name].values))})
+    if on_levels:
+        net = out["flux_net"]
+        top = net.isel(level=slice(None, -1)).drop_vars(
+            ["level", "cumulative_optical_depth", "pressure", "altitude"], errors="ignore")
+        bottom = net.isel(level=slice(1, None)).drop_vars(
+            ["level", "cumulative_optical_depth", "pressure", "altitude"], errors="ignore")
+        divergence = (top - bottom).rename({"level": "layer"})
+        out["flux_divergence"] = divergence.assign_coords(
+            layer=np.arange(atmosphere.sizes["layer"]))
+        if "pressure" in atmosphere:
+            pressure = np.asarray(atmosphere["pressure"].values, dtype=np.float64)
+            thickness = xr.DataArray(np.diff(pressure), dims=("layer",))
+            out["heating_rate"] = (options.gravity / options.heat_capacity
+                                   * out["flux_divergence"] / thickness * SECONDS_PER_DAY)
+    return out
+
+
+def _variables(flux_units: str, radiance_units: str) -> dict[str, tuple[str, str, str | None]]:
+    """Name -> (long name, units, CF standard name or None) of every output variable."""
+    return {
+        "flux_up": ("upward diffuse flux on a horizontal plane", flux_units,
+                    "upwelling_radiative_flux_in_air"),
+        "flux_down_diffuse": ("downward diffuse flux on a horizontal plane", flux_units,
+                              "downwelling_diffuse_radiative_flux_in_air"),
+        "flux_down_direct": ("downward flux of the attenuated direct beam", flux_units,
+                             "downwelling_direct_radiative_flux_in_air"),
+        "flux_down": ("total downward flux (diffuse + direct)", flux_units,
+                      "downwelling_radiative_flux_in_air"),
+        "flux_net": ("net downward flux (down minus up)", flux_units,
+                     "net_downward_radiative_flux_in_air"),
+        "mean_intensity": ("mean intensity J, the radiance averaged over all directions "
+                           "including the direct beam", radiance_units, None),
+        "actinic_flux": ("actinic flux 4 pi J", flux_units, None),
+        "radiance": ("radiance at the view angles", radiance_units, None),
+        "flux_divergence": ("radiative energy absorbed per layer: net downward flux at its "
+                            "top minus at its bottom", flux_units, None),
+        "heating_rate": ("radiative heating rate (g / c_p) (F_net,top - F_net,bottom) / "
+                         "(p_bottom - p_top)", "K day-1",
+                         "tendency_of_air_temperature_due_to_radiative_heating"),
+        "fourier_terms": ("number of azimuthal Fourier terms summed", "1", None),
+    }
+
+
+#: Attributes of the coordinates the output may carry, by the coordinate whose presence
+#: brings them (the view directions come together).
+_COORDINATES = {
+    "view_zenith": {
+        "view_zenith": {"long_name": "zenith angle of the propagation direction from the "
+                                     "vertical", "units": "degree"},
+        "view_azimuth": {"long_name": "azimuth of propagation from that of the incident "
+                                      "beam (0 = forward side)", "units": "degree"},
+        "direction": {"long_name": "up: propagating upward; down: downward"},
+    },
+    "sun_zenith": {"sun_zenith": {"long_name": "solar zenith angle", "units": "degree",
+                                  "standard_name": "solar_zenith_angle"}},
+    "pressure": {"pressure": {"long_name": "pressure at the level", "units": "Pa",
+                              "standard_name": "air_pressure"}},
+    "altitude": {"altitude": {"long_name": "altitude of the level", "units": "m",
+                              "standard_name": "altitude"}},
+}
+
+
+def _describe(out: xr.Dataset, thermal_units: str | None, settings: BlockSettings) -> None:
+    """Units, long names and solver settings on the output Dataset."""
+    if thermal_units is None:
+        flux_units = "W m-2"
+        note = "in the units of sun_irradiance (W m-2 when that is W m-2)"
+    else:
+        flux_units = "W m-2" if thermal_units == "W m-2 sr-1" else "W m-2 cm"
+        note = "sun_irradiance must be in the same units"
+    radiance_units = flux_units + " sr-1" if flux_units == "W m-2" else "W m-2 sr-1 cm"
+    for name, (long_name, units, standard) in _variables(flux_units, radiance_units).items():
+        if name in out:
+            out[name].attrs = {"long_name": long_name, "units": units}
+            if standard:
+                out[name].attrs["standard_name"] = standard
+    out["cumulative_optical_depth"].attrs = {
+        "long_name": "optical depth from the top of the atmosphere (unscaled)", "units": "1"}
+    out["level"].attrs = {"long_name": "level number from the top (fractional: position "
+                                       "inside a layer, in optical depth)", "units": "1"}
+    for trigger, coordinates in _COORDINATES.items():
+        if trigger in out.coords:
+            for name, attributes in coordinates.items():
+                out[name].attrs = dict(attributes)
+    from lamina import __version__
+
+    out.attrs = {
+        "title": "lamina discrete-ordinates radiative transfer",
+        "Conventions": "CF-1.10",
+        "lamina_version": __version__,
+        "history": f"{_datetime.datetime.now(_datetime.UTC).isoformat(timespec='seconds')} "
+                   "computed by lamina.solve",
+        "streams": settings.streams,
+        "delta_m": int(settings.delta_m),
+        "single_scattering_correction": int(settings.single_scattering_correction),
+        "aureole_correction": int(settings.aureole_correction),
+        "fourier_tolerance": settings.fourier_tolerance,
+        "max_fourier_terms": settings.max_fourier_terms,
+        "thermal_source": int(settings.thermal),
+        "flux_units_note": note,
+        "azimuth_convention": "view_azimuth is measured from the azimuth of the beam's "
+                              "propagation: 0 forward-scattering side, 180 backscattering",
+    }
