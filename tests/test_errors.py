@@ -199,12 +199,13 @@ SOLVE_ERRORS = [
                  id="sun-dataarray"),
     pytest.param(dict(sun_zenith=np.nan), exact("sun_zenith must be finite; sun angle 0 has nan"),
                  id="sun-nan"),
-    pytest.param(dict(sun_irradiance=-1.0),
+    pytest.param(dict(sun_zenith=30.0, sun_irradiance=-1.0),
                  exact("sun_irradiance must lie in [0, inf]; the value has -1"),
                  id="negative-irradiance"),
-    pytest.param(dict(sun_irradiance=[1.0, 2.0]),
-                 exact("sun_irradiance must be a scalar or an xarray.DataArray along the "
-                       "atmosphere's extra dims; got an array of shape (2,)"),
+    pytest.param(dict(sun_zenith=30.0, sun_irradiance=[1.0, 2.0]),
+                 exact("sun_irradiance has 1 axes but the atmosphere has no extra dims: give "
+                       "a scalar, an array whose axes are the atmosphere's last extra dims, "
+                       "or a DataArray"),
                  id="irradiance-array"),
     pytest.param(dict(surface_albedo=1.5),
                  exact("surface_albedo must lie in [0, 1]; the value has 1.5"),
@@ -749,7 +750,8 @@ def test_solver_error_names_the_layer_and_the_fourier_term():
                "; the phase function truncated to the streams in use is not a valid (non-negative) "
                "phase function there: use delta_m=True or more streams")
     with pytest.raises(lamina.SolverError, match=exact(message)):
-        lamina.solve(atm, streams=4, delta_m=False, view_zenith=[10.0], view_azimuth=[0.0])
+        lamina.solve(atm, streams=4, sun_zenith=30.0, delta_m=False, view_zenith=[10.0],
+                     view_azimuth=[0.0])
 
 
 def test_solver_error_in_the_azimuth_independent_term_and_its_column():
@@ -773,7 +775,8 @@ def test_solver_error_for_a_result_that_overflows():
     message = ("the solver produced a non-finite result in column 0 of this block (are the "
                "inputs, e.g. sun_irradiance, too large for double precision?)")
     with pytest.raises(lamina.SolverError, match=exact(message)):
-        lamina.solve(atm, sun_irradiance=1.7e308, view_zenith=[0.0], view_azimuth=[0.0])
+        lamina.solve(atm, sun_zenith=30.0, sun_irradiance=1.7e308, view_zenith=[0.0],
+                     view_azimuth=[0.0])
 
 
 def test_every_kernel_status_code_has_a_description():

@@ -298,10 +298,14 @@ def test_dask_result_is_lazy_and_equals_eager():
 
 def test_every_output_has_units_and_long_name():
     atm = lamina.make_atmosphere([1.0], [0.9], hg(0.5), pressure=[1e4, 1e5])
-    out = lamina.solve(atm, view_zenith=[0.0], view_azimuth=[0.0])
+    sun = xr.DataArray(1361.0, attrs={"units": "W m-2"})
+    out = lamina.solve(atm, sun_zenith=30.0, sun_irradiance=sun, view_zenith=[0.0],
+                       view_azimuth=[0.0])
     for name in out.data_vars:
         assert "units" in out[name].attrs and "long_name" in out[name].attrs, name
     assert out.heating_rate.attrs["units"] == "K day-1"
+    assert out.flux_up.attrs["units"] == "W m-2"
+    assert out.radiance.attrs["units"] == "W m-2 sr-1"
 
 
 # ---------------------------------------------------------------- kernel test hooks

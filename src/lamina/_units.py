@@ -98,6 +98,8 @@ def _per_steradian(flux: str) -> str:
         return "sr-1"
     if flux == "sr":
         return "1"
+    if flux.startswith("W m-2"):
+        return "W m-2 sr-1" + flux[len("W m-2"):]
     return f"{flux} sr-1"
 
 

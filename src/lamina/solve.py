@@ -46,9 +46,9 @@ __all__ = [
 def solve(
     atmosphere: xr.Dataset,
     streams: int = 16,
-    sun_zenith: object = 30.0,
-    sun_irradiance: object = 1.0,
-    surface_albedo: object = 0.1,
+    sun_zenith: object = None,
+    sun_irradiance: object = None,
+    surface_albedo: object = None,
     view_zenith: Sequence[float] | np.ndarray | None = None,
     view_azimuth: Sequence[float] | np.ndarray | None = None,
     wavenumber_band: tuple[object, object] | None = None,
@@ -74,13 +74,19 @@ def solve(
     streams : int
         Total number of discrete ordinates (even, >= 2); ``streams // 2`` double-Gauss
         cosines per hemisphere.
-    sun_zenith : float, list of float or DataArray
+    sun_zenith : float, list of float or DataArray, optional
         Zenith angle of the incident beam in degrees, 0 <= theta_0 < 90. A list becomes the
-        output dim ``sun_zenith``; all its angles share one homogeneous solution.
-    sun_irradiance : float or DataArray
-        Beam irradiance S on a plane normal to the beam. Radiances are in units of S per sr.
-    surface_albedo : float or DataArray
+        output dim ``sun_zenith``; all its angles share one homogeneous solution. Without
+        it there is no beam (no default adds a source): the run is thermal, or lit only by
+        ``top_diffuse_radiance``, and only the azimuth-averaged term is solved.
+    sun_irradiance : float, array or DataArray, optional
+        Beam irradiance S on a plane normal to the beam (needs ``sun_zenith``; default 1
+        when a zenith is given). Its ``units`` attribute, if any, labels every flux,
+        radiance and heating rate (``"W m-2 nm-1"`` carries through as per nm); without
+        one, outputs are relative to S (fluxes in units of S, radiances per sr of it).
+    surface_albedo : float, array or DataArray, optional
         Lambertian surface albedo in [0, 1]; the surface emits with emissivity 1 - albedo.
+        Default: a black surface (no default adds a reflector).
     view_zenith, view_azimuth : list of float, optional
         Directions (degrees) at which radiances are wanted: zenith angle of the line of
         propagation from the vertical (0..90, with ``direction`` up or down) and azimuth of
@@ -92,8 +98,14 @@ def solve(
         wavelength, say).
     surface_temperature : float or DataArray, optional
         Surface temperature in K for thermal runs; defaults to the bottom level temperature.
-    top_diffuse_radiance : float or DataArray
+    top_diffuse_radiance : float, array or DataArray
         Isotropic radiance falling on the top of the atmosphere.
+
+        Per-column options (``sun_irradiance``, ``surface_albedo``,
+        ``top_diffuse_radiance``, ``surface_temperature`` and the band bounds) are scalars,
+        DataArrays along the atmosphere's extra dims, or numpy arrays whose axes are the
+        atmosphere's last extra dims in order (numpy broadcasting: an axis of size 1 holds
+        for the whole dim).
     wavenumber : float or DataArray, optional
         Monochromatic thermal source at this wavenumber (cm-1), radiance per cm-1.
     output_levels : list of float, optional

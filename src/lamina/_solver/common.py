@@ -82,12 +82,17 @@ class Options:
     #: as given (checked positive); they only scale the heating rate
     gravity: Any
     heat_capacity: Any
+    #: True if the user gave a sun (a zenith angle, with or without an irradiance)
+    beam: bool
     #: sun zenith (degrees) with the private sun dim; True if the user gave a list of suns
     sun_zenith: xr.DataArray
     sun_list: bool
     sun_irradiance: xr.DataArray
     surface_albedo: xr.DataArray
     top_diffuse_radiance: xr.DataArray
+    #: the ``units`` attributes of sun_irradiance and top_diffuse_radiance, where given
+    irradiance_units: str | None
+    top_radiance_units: str | None
     views: Views
     positions: Positions
     #: True when outputs are on every level (no output_levels given)
@@ -178,17 +183,47 @@ class Fields:
 # ------------------------------------------------------------------ option arrays
 
 
-def option_array(value: object, name: str) -> xr.DataArray:
-    """A scalar or DataArray option as a DataArray (0-d for scalars)."""
+def extra_dims(atmosphere: xr.Dataset) -> dict[str, int]:
+    """The atmosphere's extra dims (besides layer, level and moment), in their order."""
+    dims = {}
+    for name in ("optical_depth", "single_scattering_albedo", "phase_moments"):
+        for dim in atmosphere[name].dims:
+            if dim not in ("layer", "level", "moment"):
+                dims.setdefault(str(dim), atmosphere.sizes[dim])
+    return dims
+
+
+def option_array(value: object, name: str, extra: dict[str, int] | None = None) -> xr.DataArray:
+    """A per-column option as a DataArray (0-d for scalars).
+
+    A numpy array (or nested list) labels the atmosphere's extra dims ``extra`` as numpy
+    broadcasting would: its last axis is the last extra dim, and so on leftward; each axis
+    has that dim's size or 1.
+    """
     if isinstance(value, xr.DataArray):
+        if value.dtype.kind not in "biuf":
+            raise TypeError(f"{name} must be real numbers; got values of dtype {value.dtype}")
         return value.astype(np.float64)
     array = as_float_array(value, name)
-    if array.ndim != 0:
+    if array.ndim == 0:
+        return xr.DataArray(array)
+    names = list(extra or {})
+    if array.ndim > len(names):
+        which = f"{len(names)} extra dims {tuple(names)}" if names else "no extra dims"
         raise ValueError(
-            f"{name} must be a scalar or an xarray.DataArray along the atmosphere's extra "
-            f"dims; got an array of shape {array.shape}"
+            f"{name} has {array.ndim} axes but the atmosphere has {which}: give a scalar, an "
+            "array whose axes are the atmosphere's last extra dims, or a DataArray"
         )
-    return xr.DataArray(array)
+    dims = names[len(names) - array.ndim:]
+    for axis, dim in enumerate(dims):
+        if array.shape[axis] not in (1, extra[dim]):
+            raise ValueError(
+                f"{name} axis {axis} has {array.shape[axis]} values but the atmosphere's "
+                f"dim {dim!r} has {extra[dim]}"
+            )
+    squeezed = [axis for axis in range(array.ndim) if array.shape[axis] == 1]
+    return xr.DataArray(np.squeeze(array, axis=tuple(squeezed)),
+                        dims=[dim for axis, dim in enumerate(dims) if axis not in squeezed])
 
 
 def check_option_values(array: xr.DataArray, name: str, **bounds: Any) -> None:

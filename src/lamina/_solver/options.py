@@ -21,6 +21,7 @@ from lamina._solver.common import (
     Positions,
     Views,
     check_option_values,
+    extra_dims,
     option_array,
     view_cosines,
 )
@@ -50,39 +51,85 @@ def check_options(
     tolerance = float(as_float_array(fourier_tolerance, "fourier_tolerance"))
     if not (np.isfinite(tolerance) and tolerance > 0.0):
         raise ValueError(f"fourier_tolerance must be positive; got {tolerance:g}")
-    if max_fourier_terms is None:
-        max_terms = streams
-    else:
-        max_terms = int(max_fourier_terms)
-        if max_terms < 1:
-            raise ValueError(f"max_fourier_terms must be >= 1; got {max_fourier_terms}")
+    max_terms = _check_max_terms(max_fourier_terms, streams)
+    flags = {name: _check_flag(value, name) for name, value in (
+        ("delta_m", delta_m), ("single_scattering_correction", single_scattering_correction),
+        ("aureole_correction", aureole_correction))}
     for name, value in (("gravity", gravity), ("heat_capacity", heat_capacity)):
         number = float(as_float_array(value, name))
         if not (np.isfinite(number) and number > 0.0):
             raise ValueError(f"{name} must be positive; got {number:g}")
 
-    zenith, sun_list = sun_geometry(sun_zenith)
+    # no default adds light: a beam only when a sun is given, a black surface by default
+    beam = sun_zenith is not None
+    if sun_irradiance is not None and sun_zenith is None:
+        given = option_array(sun_irradiance, "sun_irradiance", extra_dims(atmosphere))
+        if given.chunks is not None or np.any(given.values != 0.0):
+            raise ValueError("sun_irradiance needs sun_zenith: give the zenith angle of the "
+                             "beam (degrees)")
+        sun_irradiance = None   # a sun of zero irradiance is no sun
+    zenith, sun_list = sun_geometry(0.0 if sun_zenith is None else sun_zenith)
     check_option_values(zenith, "sun_zenith", low=0.0, high=90.0, high_open=True)
-    irradiance = option_array(sun_irradiance, "sun_irradiance")
+    extra = extra_dims(atmosphere)
+    irradiance = option_array(_default(sun_irradiance, 1.0 if beam else 0.0),
+                              "sun_irradiance", extra)
     check_option_values(irradiance, "sun_irradiance", low=0.0)
     if SUN_DIM not in irradiance.dims:
         irradiance = irradiance.expand_dims({SUN_DIM: zenith.sizes[SUN_DIM]})
-    albedo = option_array(surface_albedo, "surface_albedo")
+    albedo = option_array(_default(surface_albedo, 0.0), "surface_albedo", extra)
     check_option_values(albedo, "surface_albedo", low=0.0, high=1.0)
-    top = option_array(top_diffuse_radiance, "top_diffuse_radiance")
+    top = option_array(top_diffuse_radiance, "top_diffuse_radiance", extra)
     check_option_values(top, "top_diffuse_radiance", low=0.0)
+    if not beam or (irradiance.chunks is None and not np.any(irradiance.values)):
+        # without a beam nothing depends on azimuth: the azimuth-averaged term is the whole
+        # solution (and terms m > 0 of layers whose truncated phase function is not
+        # positive are never formed)
+        max_terms = 1
     return Options(
-        streams=streams, delta_m=bool(delta_m),
-        single_scattering_correction=bool(single_scattering_correction),
-        aureole_correction=bool(aureole_correction),
+        streams=streams, delta_m=flags["delta_m"],
+        single_scattering_correction=flags["single_scattering_correction"],
+        aureole_correction=flags["aureole_correction"],
         fourier_tolerance=tolerance, max_fourier_terms=max_terms,
         gravity=gravity, heat_capacity=heat_capacity,
-        sun_zenith=zenith, sun_list=sun_list, sun_irradiance=irradiance,
+        beam=beam, sun_zenith=zenith, sun_list=sun_list, sun_irradiance=irradiance,
         surface_albedo=albedo, top_diffuse_radiance=top,
+        irradiance_units=_units_attribute(sun_irradiance, "sun_irradiance"),
+        top_radiance_units=_units_attribute(top_diffuse_radiance, "top_diffuse_radiance"),
         views=view_angles(view_zenith, view_azimuth),
         positions=output_positions(output_levels, atmosphere.sizes["layer"]),
         on_levels=output_levels is None,
     )
+
+
+def _units_attribute(value: object, name: str) -> str | None:
+    if not isinstance(value, xr.DataArray) or "units" not in value.attrs:
+        return None
+    units = value.attrs["units"]
+    if not isinstance(units, str):
+        raise TypeError(f"the units attribute of {name} must be a string; got {units!r}")
+    return units
+
+
+def _default(value: object, default: float) -> object:
+    return default if value is None else value
+
+
+def _check_flag(value: object, name: str) -> bool:
+    """A switch must be a bool: "no" or 0 must not be read as a choice."""
+    if not isinstance(value, bool | np.bool_):
+        raise TypeError(f"{name} must be True or False; got {value!r}")
+    return bool(value)
+
+
+def _check_max_terms(value: object, streams: int) -> int:
+    """The cap on the azimuthal terms: an integer >= 1 (more than ``streams`` means none)."""
+    if value is None:
+        return streams
+    if isinstance(value, bool) or not isinstance(value, int | np.integer):
+        raise TypeError(f"max_fourier_terms must be an integer >= 1 or None; got {value!r}")
+    if value < 1:
+        raise ValueError(f"max_fourier_terms must be >= 1; got {value}")
+    return int(min(value, streams))
 
 
 def _check_streams(streams: object) -> int:

@@ -22,6 +22,7 @@ from lamina._solver.common import (
     Options,
     ThermalSources,
 )
+from lamina._units import OutputUnits, output_units
 
 
 def assemble(
@@ -35,7 +36,10 @@ def assemble(
     """The output Dataset from the blocks' outputs (named in the plan's order)."""
     out = _labelled(results, names, atmosphere, options)
     out = _derived(out, atmosphere, options)
-    _describe(out, sources.units, settings)
+    thermal = None if sources.units is None else sources.units.replace(" sr-1", "")
+    units = output_units(options.beam, options.irradiance_units, thermal,
+                         options.top_radiance_units)
+    _describe(out, units, settings, options.beam)
     return out
 
 
@@ -54,7 +58,9 @@ def _labelled(results, names, atmosphere: xr.Dataset, options: Options) -> xr.Da
         out = out.assign_coords(direction=["up", "down"], view_zenith=views.zenith,
                                 view_azimuth=views.azimuth)
     zenith = options.sun_zenith
-    if options.sun_list:
+    if not options.beam:
+        out = out.isel({SUN_DIM: 0}, drop=True)
+    elif options.sun_list:
         out = out.rename({SUN_DIM: "sun_zenith"})
         if "sun_zenith" not in out.coords and zenith.ndim == 1:
             out = out.assign_coords(sun_zenith=zenith.values)
@@ -76,7 +82,8 @@ def _derived(out: xr.Dataset, atmosphere: xr.Dataset, options: Options) -> xr.Da
     out["actinic_flux"] = 4.0 * np.pi * out["mean_intensity"]
     for name in ("pressure", "altitude"):
         if name in atmosphere and on_levels:
-            out = out.assign_coords({name: ("level", np.asarray(atmosphere[name].values))})
+            # a profile may vary along the extra dims (one per column)
+            out = out.assign_coords({name: atmosphere[name].drop_vars("level")})
     if on_levels:
         net = out["flux_net"]
         top = net.isel(level=slice(None, -1)).drop_vars(
@@ -87,35 +94,38 @@ def _derived(out: xr.Dataset, atmosphere: xr.Dataset, options: Options) -> xr.Da
         out["flux_divergence"] = divergence.assign_coords(
             layer=np.arange(atmosphere.sizes["layer"]))
         if "pressure" in atmosphere:
-            pressure = np.asarray(atmosphere["pressure"].values, dtype=np.float64)
-            thickness = xr.DataArray(np.diff(pressure), dims=("layer",))
+            pressure = atmosphere["pressure"].drop_vars("level")
+            thickness = (pressure.isel(level=slice(1, None))
+                         - pressure.isel(level=slice(None, -1))).rename({"level": "layer"})
             out["heating_rate"] = (options.gravity / options.heat_capacity
                                    * out["flux_divergence"] / thickness * SECONDS_PER_DAY)
     return out
 
 
-def _variables(flux_units: str, radiance_units: str) -> dict[str, tuple[str, str, str | None]]:
-    """Name -> (long name, units, CF standard name or None) of every output variable."""
+def _variables(units: OutputUnits) -> dict[str, tuple[str, str, str | None]]:
+    """Name -> (long name, units, CF standard name or None) of every output variable.
+
+    The CF standard-name table has no name for a flux or a radiance that is neither spectral
+    nor split into short and long wave, so those carry none; the heating rate's name holds
+    only when its units are a temperature tendency.
+    """
+    flux, radiance = units.flux, units.radiance
+    heating_name = ("tendency_of_air_temperature_due_to_radiative_heating"
+                    if units.heating_rate == "K day-1" else None)
     return {
-        "flux_up": ("upward diffuse flux on a horizontal plane", flux_units,
-                    "upwelling_radiative_flux_in_air"),
-        "flux_down_diffuse": ("downward diffuse flux on a horizontal plane", flux_units,
-                              "downwelling_diffuse_radiative_flux_in_air"),
-        "flux_down_direct": ("downward flux of the attenuated direct beam", flux_units,
-                             "downwelling_direct_radiative_flux_in_air"),
-        "flux_down": ("total downward flux (diffuse + direct)", flux_units,
-                      "downwelling_radiative_flux_in_air"),
-        "flux_net": ("net downward flux (down minus up)", flux_units,
-                     "net_downward_radiative_flux_in_air"),
+        "flux_up": ("upward diffuse flux on a horizontal plane", flux, None),
+        "flux_down_diffuse": ("downward diffuse flux on a horizontal plane", flux, None),
+        "flux_down_direct": ("downward flux of the attenuated direct beam", flux, None),
+        "flux_down": ("total downward flux (diffuse + direct)", flux, None),
+        "flux_net": ("net downward flux (down minus up)", flux, None),
         "mean_intensity": ("mean intensity J, the radiance averaged over all directions "
-                           "including the direct beam", radiance_units, None),
-        "actinic_flux": ("actinic flux 4 pi J", flux_units, None),
-        "radiance": ("radiance at the view angles", radiance_units, None),
+                           "including the direct beam", radiance, None),
+        "actinic_flux": ("actinic flux 4 pi J", flux, None),
+        "radiance": ("radiance at the view angles", radiance, None),
         "flux_divergence": ("radiative energy absorbed per layer: net downward flux at its "
-                            "top minus at its bottom", flux_units, None),
+                            "top minus at its bottom", flux, None),
         "heating_rate": ("radiative heating rate (g / c_p) (F_net,top - F_net,bottom) / "
-                         "(p_bottom - p_top)", "K day-1",
-                         "tendency_of_air_temperature_due_to_radiative_heating"),
+                         "(p_bottom - p_top)", units.heating_rate, heating_name),
         "fourier_terms": ("number of azimuthal Fourier terms summed", "1", None),
     }
 
@@ -139,20 +149,16 @@ _COORDINATES = {
 }
 
 
-def _describe(out: xr.Dataset, thermal_units: str | None, settings: BlockSettings) -> None:
+def _describe(out: xr.Dataset, units: OutputUnits, settings: BlockSettings,
+              beam: bool) -> None:
     """Units, long names and solver settings on the output Dataset."""
-    if thermal_units is None:
-        flux_units = "W m-2"
-        note = "in the units of sun_irradiance (W m-2 when that is W m-2)"
-    else:
-        flux_units = "W m-2" if thermal_units == "W m-2 sr-1" else "W m-2 cm"
-        note = "sun_irradiance must be in the same units"
-    radiance_units = flux_units + " sr-1" if flux_units == "W m-2" else "W m-2 sr-1 cm"
-    for name, (long_name, units, standard) in _variables(flux_units, radiance_units).items():
+    for name, (long_name, label, standard) in _variables(units).items():
         if name in out:
-            out[name].attrs = {"long_name": long_name, "units": units}
+            out[name].attrs = {"long_name": long_name, "units": label}
             if standard:
                 out[name].attrs["standard_name"] = standard
+            if units.note and name != "fourier_terms":
+                out[name].attrs["comment"] = units.note
     out["cumulative_optical_depth"].attrs = {
         "long_name": "optical depth from the top of the atmosphere (unscaled)", "units": "1"}
     out["level"].attrs = {"long_name": "level number from the top (fractional: position "
@@ -175,8 +181,8 @@ def _describe(out: xr.Dataset, thermal_units: str | None, settings: BlockSetting
         "aureole_correction": int(settings.aureole_correction),
         "fourier_tolerance": settings.fourier_tolerance,
         "max_fourier_terms": settings.max_fourier_terms,
+        "beam_source": int(beam),
         "thermal_source": int(settings.thermal),
-        "flux_units_note": note,
         "azimuth_convention": "view_azimuth is measured from the azimuth of the beam's "
                               "propagation: 0 forward-scattering side, 180 backscattering",
     }

@@ -18,7 +18,12 @@ import numpy as np
 import xarray as xr
 
 from lamina import planck
-from lamina._solver.common import ThermalSources, check_option_values, option_array
+from lamina._solver.common import (
+    ThermalSources,
+    check_option_values,
+    extra_dims,
+    option_array,
+)
 
 
 def planck_sources(
@@ -43,15 +48,16 @@ def planck_sources(
         raise ValueError("thermal emission (wavenumber_band or wavenumber) needs level "
                          "temperatures: pass temperature= to make_atmosphere")
     temperature = atmosphere["temperature"]
+    extra = extra_dims(atmosphere)
     if surface_temperature is None:
         surface = temperature.isel(level=-1, drop=True)
     else:
-        surface = option_array(surface_temperature, "surface_temperature")
+        surface = option_array(surface_temperature, "surface_temperature", extra)
         check_option_values(surface, "surface_temperature", low=0.0)
     if wavenumber_band is not None:
-        spectral, function, units = _band(wavenumber_band)
+        spectral, function, units = _band(wavenumber_band, extra)
     else:
-        spectral, function, units = _monochromatic(wavenumber)
+        spectral, function, units = _monochromatic(wavenumber, extra)
     levels = xr.apply_ufunc(function, temperature, *spectral, dask="parallelized",
                             output_dtypes=[np.float64])
     bottom = xr.apply_ufunc(function, surface, *spectral, dask="parallelized",
@@ -59,16 +65,20 @@ def planck_sources(
     return ThermalSources(levels=levels, surface=bottom, units=units)
 
 
-def _band(wavenumber_band: object) -> tuple[tuple[xr.DataArray, ...], Callable, str]:
+def _band(wavenumber_band: object,
+          extra: dict[str, int]) -> tuple[tuple[xr.DataArray, ...], Callable, str]:
     """The band's bounds, checked, with the band-integrated Planck function and its units."""
-    if isinstance(wavenumber_band, xr.DataArray) or np.shape(wavenumber_band) != (2,):
-        if not (isinstance(wavenumber_band, tuple | list) and len(wavenumber_band) == 2):
-            raise ValueError("wavenumber_band must be a pair (low, high) in cm-1 (scalars "
-                             "or DataArrays along the atmosphere's extra dims)")
-    low = option_array(wavenumber_band[0], "wavenumber_band")
-    high = option_array(wavenumber_band[1], "wavenumber_band")
+    # a pair is a tuple, a list or an array of two; its bounds may be of different kinds (a
+    # DataArray beside a scalar), so no numpy array is made of the pair itself
+    pair = (isinstance(wavenumber_band, tuple | list) and len(wavenumber_band) == 2) or (
+        isinstance(wavenumber_band, np.ndarray) and wavenumber_band.shape == (2,))
+    if not pair:
+        raise ValueError("wavenumber_band must be a pair (low, high) in cm-1 (scalars "
+                         "or DataArrays along the atmosphere's extra dims)")
+    low = option_array(wavenumber_band[0], "wavenumber_band", extra)
+    high = option_array(wavenumber_band[1], "wavenumber_band", extra)
     if low.chunks is None and high.chunks is None:
-        low_values, high_values = np.broadcast_arrays(low.values, high.values)
+        low_values, high_values = (array.values for array in xr.broadcast(low, high))
         bad = ~(np.isfinite(low_values) & (low_values >= 0.0) & (high_values > low_values))
         if np.any(bad):
             index = tuple(np.argwhere(bad)[0]) if bad.ndim else ()
@@ -79,9 +89,10 @@ def _band(wavenumber_band: object) -> tuple[tuple[xr.DataArray, ...], Callable, 
     return (low, high), planck.band_radiance, "W m-2 sr-1"
 
 
-def _monochromatic(wavenumber: object) -> tuple[tuple[xr.DataArray, ...], Callable, str]:
+def _monochromatic(wavenumber: object,
+                   extra: dict[str, int]) -> tuple[tuple[xr.DataArray, ...], Callable, str]:
     """The wavenumber, checked, with the spectral Planck function and its units."""
-    nu = option_array(wavenumber, "wavenumber")
+    nu = option_array(wavenumber, "wavenumber", extra)
     if nu.chunks is None:
         values = np.asarray(nu.values)
         if not np.all(np.isfinite(values) & (values > 0.0)):
