@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import io
 import os
 import subprocess
 import sys
@@ -235,24 +236,60 @@ def test_validate_unknown_case_is_a_clean_error(capsys):
 def test_validate_wiring(tmp_path, monkeypatch, capsys):
     import lamina.validation
 
-    calls = []
-
-    class Failed(list):
-        passed = False
+    calls, reports = [], []
 
     class Case:
         passed = False
 
-    def fake_suite(report=None, cases=None, streams_study=True):
-        calls.append((report, cases, streams_study))
-        return Failed([Case()])
+    def fake_suite(names=None, report=None, streams_study=True, *, cases=None):
+        calls.append((names, report, streams_study))
+        return [Case()]
 
     monkeypatch.setattr(lamina.validation, "run_suite", fake_suite)
+    monkeypatch.setattr(lamina.validation, "list_cases", lambda: ["a", "b", "c"])
+    monkeypatch.setattr(lamina.validation, "write_report",
+                        lambda results, path: reports.append((len(results), path)))
     monkeypatch.setattr(lamina.validation, "format_table", lambda results: "table")
     report = tmp_path / "report.md"
-    assert main(["validate", "--report", str(report), "--case", "a", "--case", "b"]) == 1
-    assert calls == [(report, ["a", "b"], True)]
+    assert main(["validate", "--report", str(report), "--case", "a", "--case", "b",
+                 "--no-progress"]) == 1
+    # one case per call (so that progress can be shown), one report of all of them
+    assert calls == [(["a"], None, True), (["b"], None, True)]
+    assert reports == [(2, report)]
     assert capsys.readouterr().out == f"table\nwrote {report}\n"
     assert main(["validate", "--report", str(tmp_path / "no" / "r.md")]) == 2
     assert "cannot write" in capsys.readouterr().err
-    assert len(calls) == 1  # the report path is checked before the suite runs
+    assert len(calls) == 2  # the report path is checked before the suite runs
+
+
+class _Terminal(io.StringIO):
+    """A text stream that says it is a terminal, as an interactive stderr would."""
+
+    def isatty(self) -> bool:
+        return True
+
+
+def test_validate_shows_progress_on_stderr(monkeypatch, capsys):
+    terminal = _Terminal()
+    monkeypatch.setattr(sys, "stderr", terminal)
+    assert main(["validate", "--case", "planck_total_radiance", "--case",
+                 "isothermal_enclosure"]) == 0
+    drawn = terminal.getvalue()
+    # lamina.progress.ProgressBar's line, redrawn as each case finishes
+    assert "lamina: validation cases 1/2" in drawn and "2/2" in drawn and "100 %" in drawn
+    assert "2 of 2 cases passed" in capsys.readouterr().out
+    terminal.truncate(0)
+    assert main(["validate", "--case", "planck_total_radiance", "--no-progress"]) == 0
+    assert terminal.getvalue() == ""
+
+
+def test_plot_refuses_a_netcdf_file_lamina_did_not_write(tmp_path, capsys):
+    # a foreign file, written by xarray itself: plausible names, no lamina stamp
+    foreign = tmp_path / "foreign.nc"
+    xr.Dataset({"flux_up": ("level", np.ones(3), {"units": "W m-2", "long_name": "up"})},
+               attrs={"title": "someone else's"}).to_netcdf(foreign)
+    assert main(["plot", str(foreign), "--output", str(tmp_path)]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith(f"lamina plot: error: {foreign}: not a lamina result file")
+    assert err.count("\n") == 1
+    assert not list(tmp_path.glob("*.png"))

@@ -107,6 +107,16 @@ ATMOSPHERE_ERRORS = [
         exact("single_scattering_albedo must lie in [0, 1]; layer 1 has 1.2"),
         id="albedo-above-one"),
     pytest.param(
+        # shown with all the digits that make it differ from the bound (shortest text that
+        # reads back to the same float, as Python's repr), not rounded to 1 as by :g
+        lambda: lamina.make_atmosphere([1.0, 1.0], [0.5, 1.0000001], hg(0.5)),
+        exact("single_scattering_albedo must lie in [0, 1]; layer 1 has 1.0000001"),
+        id="albedo-just-above-one"),
+    pytest.param(
+        lambda: lamina.make_atmosphere([1.0], [np.nextafter(1.0, 2.0)], hg(0.5)),
+        exact("single_scattering_albedo must lie in [0, 1]; layer 0 has 1.0000000000000002"),
+        id="albedo-one-ulp-above-one"),
+    pytest.param(
         lambda: lamina.make_atmosphere([1.0, 1.0], [-0.1, 0.5], hg(0.5)),
         exact("single_scattering_albedo must lie in [0, 1]; layer 0 has -0.1"),
         id="albedo-below-zero"),

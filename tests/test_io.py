@@ -225,6 +225,40 @@ def test_resume_after_a_kill_computes_nothing_twice(tmp_path):
     assert not parts.exists()
 
 
+def _history(path) -> list[str]:
+    with xr.open_dataset(path) as data:
+        return str(data.attrs["history"]).splitlines()
+
+
+@pytest.mark.parametrize("chunk_size", [None, 3])
+def test_history_holds_one_entry_per_action(tmp_path, chunk_size):
+    # CF conventions (section 2.6.2): "history" is an audit trail, one line per program run
+    # that modified the file. A chunked run computes once and writes one file: two lines,
+    # whatever the number of chunks (the temporary part files are no actions on the result).
+    atmosphere = _atmosphere()
+    path = tmp_path / "out.nc"
+    for _ in range(2):  # re-running to the same path starts a new file, not a longer trail
+        io.run_chunked(atmosphere, {"sun_zenith": 20.0}, path, chunk_size, progress=False,
+                       solver=_solve)
+        lines = _history(path)
+        assert len(lines) == 2, lines
+        assert lines[0].endswith("computed by lamina.solve")
+        assert lines[1].endswith(f"written by lamina {lamina.__version__}")
+    # writing what was read back is one more action, and adds exactly one line
+    with xr.open_dataset(path) as back:
+        io.write_netcdf(back.load(), tmp_path / "copy.nc")
+    assert _history(tmp_path / "copy.nc")[:2] == lines
+    assert len(_history(tmp_path / "copy.nc")) == 3
+    # resuming a killed run is still one run
+    killed = Counter(_solve, fail_on_call=2)
+    with pytest.raises(KeyboardInterrupt):
+        io.run_chunked(atmosphere, {"sun_zenith": 20.0}, tmp_path / "resumed.nc", 3,
+                       progress=False, solver=killed)
+    io.run_chunked(atmosphere, {"sun_zenith": 20.0}, tmp_path / "resumed.nc", 3, resume=True,
+                   progress=False, solver=_solve)
+    assert len(_history(tmp_path / "resumed.nc")) == 2
+
+
 def test_resume_with_different_inputs_is_refused(tmp_path):
     atmosphere = _atmosphere()
     path = tmp_path / "out.nc"

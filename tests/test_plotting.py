@@ -3,6 +3,8 @@ at the top, and saves as PNG without a screen."""
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
 import pytest
 import xarray as xr
@@ -118,15 +120,63 @@ def test_spectrum_fractions(spectral_result, tmp_path):
     x, y = ax.lines[1].get_data()  # reflected fraction, second sun zenith
     np.testing.assert_array_equal(x, [0.4, 0.6, 0.8, 1.0])
     np.testing.assert_allclose(y, top["flux_up"] / top["flux_down"])
-    # energy bookkeeping of the three fractions (exact): reflected + absorbed + net flux
-    # into the surface add up to 1
-    reflected, reaching, absorbed = (ax.lines[i].get_data()[1] for i in (0, 2, 4))
-    bottom = spectral_result.isel(level=-1, sun_zenith=0)
-    incident = spectral_result.isel(level=0, sun_zenith=0)["flux_down"]
-    np.testing.assert_allclose(reflected + absorbed + (reaching - bottom["flux_up"] / incident),
-                               1.0, rtol=1e-12)
     with pytest.raises(ValueError, match="the result has no spectral dim"):
         plotting.spectrum(spectral_result.isel(wavelength=0))
+
+
+def test_spectrum_is_a_budget_whose_parts_add_up_to_one(spectral_result):
+    # A demo-like run (haze over a thick cloud, reflecting surface, no emission): energy
+    # conservation (first law; common practice in any radiation budget) splits the light
+    # entering at the top into reflected + absorbed in the atmosphere + absorbed at the
+    # surface, so the three plotted parts must add up to 1 within round-off.
+    figure = plotting.spectrum(spectral_result)
+    ax = figure.axes[0]
+    labels = [handle.get_label() for handle in ax.figure.legends[0].legend_handles][:3]
+    assert labels == ["reflected at the top", "absorbed in the atmosphere",
+                      "absorbed at the surface"]
+    for sun in range(2):  # lines: part 0 suns 0, 1; part 1 suns 0, 1; part 2 suns 0, 1
+        reflected, atmosphere, surface = (ax.lines[2 * part + sun].get_data()[1]
+                                          for part in range(3))
+        np.testing.assert_allclose(reflected + atmosphere + surface, 1.0, rtol=0, atol=1e-12)
+        # each part is the flux its name says: net flux into the surface over the incident
+        bottom = spectral_result.isel(level=-1, sun_zenith=sun)
+        incident = spectral_result.isel(level=0, sun_zenith=sun)["flux_down"]
+        np.testing.assert_allclose(surface, (bottom["flux_down"] - bottom["flux_up"]) / incident,
+                                   rtol=1e-12)
+        assert np.all(surface > 0) and np.all(atmosphere > 0)
+
+
+def _figure_texts(figure) -> list[str]:
+    """Every text drawn in a figure: titles, axis labels, tick labels, legends."""
+    return [text.get_text() for text in figure.findobj(match=lambda a: hasattr(a, "get_text"))
+            if text.get_text()]
+
+
+def test_one_spelling_of_micrometre_in_every_figure(spectral_result):
+    # Every figure that names the wavelength writes its unit as "µm" (U+00B5), never "um",
+    # "micrometre", "micron" or with the Greek mu (U+03BC).
+    result = spectral_result.copy()
+    result["wavelength"].attrs["units"] = "micrometre"
+    seen = 0
+    for draw in (plotting.flux_profiles, plotting.mean_intensity_profile,
+                 plotting.heating_rate_profile, plotting.radiance_by_view_zenith,
+                 plotting.spectrum):
+        for data in (spectral_result, result):
+            texts = " | ".join(_figure_texts(draw(data)))
+            assert not re.search(r"\bum\b|micromet|micron|\u03bcm", texts), texts
+            seen += texts.count("µm")
+    assert seen >= 10  # the unit is shown (legends, titles or the spectrum's axis)
+
+
+def test_radiance_figure_names_its_sun_angle_and_wavelength(spectral_result, plain_result):
+    heading = plotting.radiance_by_view_zenith(spectral_result).get_suptitle()
+    assert "sun zenith 30°" in heading and "wavelength 0.8 µm" in heading
+    # one scalar sun angle and one wavelength as scalar coordinates: still named
+    single = spectral_result.isel(sun_zenith=1, wavelength=0)
+    heading = plotting.radiance_by_view_zenith(single).get_suptitle()
+    assert "sun zenith 60°" in heading and "wavelength 0.4 µm" in heading
+    with pytest.raises(ValueError, match="no radiance"):
+        plotting.radiance_by_view_zenith(plain_result)
 
 
 def test_plot_result_writes_what_applies(spectral_result, plain_result, tmp_path):

@@ -24,6 +24,22 @@ def as_float_array(value: object, name: str) -> np.ndarray:
     return np.require(array, requirements="C")
 
 
+def number_text(value: float) -> str:
+    """A bad value as it would be typed: the shortest text that reads back to the same float.
+
+    ``repr`` of a Python float round-trips exactly, so 1.0000001 is shown as 1.0000001 (not
+    as ``:g`` would, 1), and a value just outside a bound can be told from the bound; a
+    whole number drops the ".0" (``90``, ``-1``).
+
+    Examples
+    --------
+    >>> number_text(1.0000001), number_text(90.0), number_text(1 + 2**-52)
+    ('1.0000001', '90', '1.0000000000000002')
+    """
+    text = repr(float(value))
+    return text[:-2] if text.endswith(".0") else text
+
+
 def where_text(index: tuple[int, ...], labels: Sequence[str] | None) -> str:
     """Where a bad value sits, for messages: "wavelength 3, layer 0" or "index (3, 0)"."""
     if not index:
@@ -76,5 +92,5 @@ def require_range(
         value = array[bad] if bad else array
         raise ValueError(
             f"{name} must lie in {left}{low_text}, {high_text}{right}; "
-            f"{where_text(bad, labels)} has {float(value):g}"
+            f"{where_text(bad, labels)} has {number_text(value)}"
         )

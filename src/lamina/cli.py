@@ -5,7 +5,7 @@
     lamina run SCENARIO.toml --output OUT.nc [--chunk-size N] [--resume] [--no-progress]
     lamina plot RESULT.nc [--output DIR]
     lamina demo --output DIR [--no-progress]
-    lamina validate [--report FILE.md] [--case NAME]
+    lamina validate [--report FILE.md] [--case NAME] [--no-progress]
 
 Mistakes in the input (a bad scenario, an unwritable output path, an invalid option) are
 reported as one line on standard error with exit status 2, without a traceback.
@@ -108,6 +108,7 @@ def _build_parser() -> _Parser:
                           help="write the report (markdown) to this file")
     validate.add_argument("--case", action="append", metavar="NAME",
                           help="run only this case (may be repeated)")
+    validate.add_argument("--no-progress", action="store_true", help="draw no progress bar")
     validate.set_defaults(handler=_validate)
     return parser
 
@@ -165,6 +166,12 @@ def _plot(args: argparse.Namespace) -> int:
         raise ValueError(f"{args.result}: cannot read it as netCDF ({error})") from None
     with result:
         result.load()
+    if "lamina_version" not in result.attrs:
+        # lamina.solve and lamina.io stamp every result; without the stamp the variables
+        # the figures need (and their meaning) cannot be trusted to be there
+        raise ValueError(f"{args.result}: not a lamina result file (it has no lamina_version "
+                         "attribute); lamina plot draws files written by lamina run, lamina "
+                         "demo or lamina.io.write_netcdf")
     written = plot_result(result, folder, prefix=f"{args.result.stem}_")
     for path in written:
         print(f"wrote {path}")
@@ -219,15 +226,28 @@ def _demo(args: argparse.Namespace) -> int:
 
 
 def _validate(args: argparse.Namespace) -> int:
-    from lamina.validation import format_table, run_suite
+    from lamina.progress import ProgressBar
+    from lamina.validation import format_table, list_cases, run_suite, write_report
+    from lamina.validation.suite import SuiteResult
 
     if args.report is not None:
         from lamina.io import check_writable
 
         check_writable(args.report)
-    # the study against the number of streams only feeds the report's figures
-    results = run_suite(report=args.report, cases=args.case,
-                        streams_study=args.report is not None)
+    names = list_cases() if args.case is None else list(dict.fromkeys(args.case))
+    unknown = [name for name in names if name not in list_cases()]
+    if unknown:
+        run_suite(unknown)  # raises the suite's own message naming the case and the known ones
+    results = SuiteResult()
+    # one case at a time, so that the bar moves as cases finish; the study against the
+    # number of streams only feeds the report's figures
+    with ProgressBar(len(names), "lamina: validation cases",
+                     enabled=False if args.no_progress else None) as bar:
+        for name in names:
+            results.extend(run_suite([name], streams_study=args.report is not None))
+            bar.advance()
+    if args.report is not None:
+        write_report(results, args.report)
     print(format_table(results))  # ends with the count of passed cases and any failures
     if args.report is not None:
         print(f"wrote {args.report}")

@@ -113,6 +113,10 @@ def _attribute(value: Any) -> Any:
     return value
 
 
+#: The words of the history line every write adds.
+_WRITTEN_BY = "written by lamina"
+
+
 def _prepared(dataset: xr.Dataset, settings: Mapping[str, Any] | None) -> xr.Dataset:
     missing = [
         (str(name), key)
@@ -131,7 +135,7 @@ def _prepared(dataset: xr.Dataset, settings: Mapping[str, Any] | None) -> xr.Dat
     attrs["lamina_version"] = _version()
     attrs["date_created"] = _datetime.datetime.now(_datetime.UTC).isoformat(timespec="seconds")
     attrs["Conventions"] = "CF-1.10"
-    history = f"{attrs['date_created']} written by lamina {attrs['lamina_version']}"
+    history = f"{attrs['date_created']} {_WRITTEN_BY} {attrs['lamina_version']}"
     attrs["history"] = (f"{attrs['history']}\n{history}" if attrs.get("history")
                         else history)
     out.attrs = {key: _attribute(value) for key, value in attrs.items()}
@@ -468,6 +472,11 @@ def run_chunked(
         combined = xr.concat(parts, dim=spectral, data_vars="minimal", coords="minimal",
                              compat="equals", join="exact", combine_attrs="override")
     combined.attrs.pop("date_created", None)  # write_netcdf stamps the final file
+    # The parts' own "written by lamina" lines record temporary files: the final write adds
+    # the one line that matters, so that the history holds one entry per action.
+    combined.attrs["history"] = "\n".join(
+        line for line in str(combined.attrs.get("history", "")).splitlines()
+        if _WRITTEN_BY not in line)
     write_netcdf(combined, target, settings=attributes)
     # Only now is it safe to forget the parts: the whole result is on disk. Rename first (an
     # atomic step) so that a kill during the removal leaves no half parts folder to trip over.

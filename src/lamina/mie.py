@@ -1,7 +1,8 @@
 """Optical properties of log-normal size distributions of homogeneous spheres (Mie theory).
 
-Single-sphere efficiencies and scattering amplitudes come from the ``miepython`` package;
-this module integrates them over a log-normal size distribution and projects the
+Single-sphere Mie series are summed here for many spheres at once (the recurrences of
+Bohren and Huffman 1983, checked against the ``miepython`` package in the tests); this module
+integrates them over a log-normal size distribution and projects the
 size-averaged phase function onto Legendre polynomials, giving the inputs lamina's solver
 wants: cross-sections, single-scattering albedo, asymmetry parameter and phase moments.
 
@@ -14,7 +15,7 @@ Number distribution (log-normal; e.g. Hansen and Travis 1974)::
 with r_g the median radius (``median_radius``) and sigma_g > 1 the geometric standard
 deviation. Size parameter x = 2 pi r / lambda (the surrounding medium is vacuum/air with
 index 1). Refractive index m = n + i k with k >= 0 meaning absorption (the sign convention
-of Bohren and Huffman 1983); miepython uses n - i k, and the conversion happens here.
+of Bohren and Huffman 1983, used throughout this module; miepython uses n - i k).
 
 Size averages (per particle, over the number distribution)::
 
@@ -45,14 +46,19 @@ weakly absorbing spheres are not resolved by any such rule: they leave scatter o
 1e-4 (k ~ 1e-3 to 1e-2) up to 1e-3 (k = 0) in the averages, which more panels
 (``radius_panels``) reduce only slowly.
 
-Single spheres: miepython gives Q_ext, Q_sca and g (``efficiencies_mx``) and the series
-coefficients a_n, b_n (``coefficients``); the amplitudes
-S1 = sum_n (2n+1)/(n(n+1)) (a_n pi_n + b_n tau_n), S2 likewise with pi_n and tau_n swapped
-(Bohren and Huffman 1983, chapter 4) are summed here for all spheres at once as
-matrix products. The phase function of one sphere is a polynomial in mu = cos T of degree
-2 N, N the number of terms of its series (Wiscombe 1980: about x + 4.05 x^(1/3) + 2), so
-the Gauss-Legendre rule in mu with N_max + ceil(n_moments / 2) + 1 nodes projects it onto
-P_0 .. P_(n_moments - 1) exactly, up to round-off.
+Single spheres: the coefficients a_n, b_n (n up to Wiscombe's N = x + 4.05 x^(1/3) + 2)
+come from the recurrences of Bohren and Huffman (1983, chapter 4 and appendix A), the
+logarithmic derivative D_n(mx) and the ratio psi_n / psi_(n-1) run downwards (their stable
+direction), chi_n upwards; the loop runs over the order n with every sphere of a block of
+neighbouring size nodes in one numpy operation, each block padded only to its own longest
+series. Q_ext, Q_sca and g follow from the coefficients (Bohren and Huffman eqs. 4.61, 4.62
+and section 4.5), and the amplitudes
+S1 = sum_n (2n+1)/(n(n+1)) (a_n pi_n + b_n tau_n), S2 likewise with pi_n and tau_n swapped,
+as S1 +- S2 = sum_n (2n+1)/(n(n+1)) (a_n +- b_n)(pi_n +- tau_n): real matrix products over
+all spheres of a block and all angles. The phase function of one sphere is a polynomial in
+mu = cos T of degree 2 N, so the Gauss-Legendre rule in mu with
+N_max + ceil(n_moments / 2) + 1 nodes (N_max the longest series at that wavelength) projects
+it onto P_0 .. P_(n_moments - 1) exactly, up to round-off.
 
 References
 ----------
@@ -71,6 +77,7 @@ import xarray as xr
 from numpy.typing import ArrayLike
 from scipy import special
 
+from lamina._checks import number_text
 from lamina.phase import _as_real_array, _check_count, _index_text
 
 __all__ = ["lognormal_optics"]
@@ -140,6 +147,132 @@ def _angular_functions(cosines: np.ndarray, n_terms: int) -> tuple[np.ndarray, n
     order = np.arange(1, n_terms + 1)[:, np.newaxis]
     angular_tau = order * cosines * angular_pi[1:] - (order + 1) * angular_pi[:-1]
     return angular_pi[1:], angular_tau
+
+
+#: Spheres per block of the vectorised series (bounds the memory of the padded arrays).
+_SPHERES_PER_BLOCK = 256
+
+
+def _series_length(size_parameter: np.ndarray) -> np.ndarray:
+    """Terms of the Mie series per sphere: Wiscombe's (1980) x + 4.05 x^(1/3) + 2."""
+    return (size_parameter + 4.05 * np.cbrt(size_parameter) + 2.0).astype(np.int64)
+
+
+def _mie_coefficients(
+    index: np.ndarray, size_parameter: np.ndarray, n_terms: int
+) -> tuple[np.ndarray, np.ndarray]:
+    """Mie coefficients a_n, b_n (n = 1 .. n_terms) of many spheres in one vectorised pass.
+
+    ``index`` is m = n + i k (k >= 0 absorbing, Bohren and Huffman's convention) and
+    ``size_parameter`` x, both of shape (sphere,); returns complex arrays (sphere, n_terms)
+    with the terms beyond each sphere's own series length (Wiscombe 1980) set to 0. The
+    recurrences of Bohren and Huffman (1983, chapter 4 and appendix A) run over the order n
+    for all spheres at once: the logarithmic derivative D_n(mx) and the ratio
+    psi_n(x) / psi_(n-1)(x) downwards (both stable that way, started from 0 far enough up,
+    as Miller's method), psi_n as products of the ratios from whichever of psi_0, psi_1 is
+    larger, and chi_n upwards (its stable direction); xi_n = psi_n - i chi_n.
+    """
+    x = size_parameter[:, np.newaxis]
+    mx = index * size_parameter
+    # Start the downward recurrences well above both n_terms and |mx| (BHMIE uses + 15).
+    n_start = int(max(n_terms, np.abs(mx).max()) + 16 + 1.5 * np.sqrt(np.abs(mx).max()))
+    order = np.arange(1, n_terms + 1)
+    log_derivative = np.zeros((size_parameter.size, n_terms), dtype=np.complex128)
+    ratio = np.zeros((size_parameter.size, n_terms))
+    d_next = np.zeros(size_parameter.size, dtype=np.complex128)
+    r_next = np.zeros(size_parameter.size)
+    # The loop runs over the order n (the recurrence direction); every step works on
+    # all spheres at once.
+    with np.errstate(divide="ignore", over="ignore", invalid="ignore"):
+        for n in range(n_start, 0, -1):
+            d_next = n / mx - 1.0 / (d_next + n / mx)  # D_(n-1) from D_n
+            r_next = 1.0 / ((2 * n + 1) / size_parameter - r_next)  # psi_n / psi_(n-1)
+            if 2 <= n <= n_terms + 1:
+                log_derivative[:, n - 2] = d_next  # column j holds D_(j+1)
+            if n <= n_terms:
+                ratio[:, n - 1] = r_next  # column j holds psi_(j+1) / psi_j
+    sin_x, cos_x = np.sin(size_parameter), np.cos(size_parameter)
+    psi_one_direct = sin_x / size_parameter - cos_x
+    use_zero = np.abs(sin_x) >= np.abs(psi_one_direct)
+    psi_one = np.where(use_zero, ratio[:, 0] * sin_x, psi_one_direct)
+    psi = np.empty((size_parameter.size, n_terms + 1))
+    psi[:, 0] = sin_x
+    psi[:, 1] = psi_one
+    if n_terms > 1:
+        psi[:, 2:] = psi_one[:, np.newaxis] * np.cumprod(ratio[:, 1:], axis=1)
+    chi = np.empty((size_parameter.size, n_terms + 1))
+    chi[:, 0] = cos_x
+    chi_previous = -sin_x  # chi_(-1)
+    with np.errstate(over="ignore", invalid="ignore"):
+        for n in range(1, n_terms + 1):
+            chi[:, n] = (2 * n - 1) / size_parameter * chi[:, n - 1] - chi_previous
+            chi_previous = chi[:, n - 1]
+        xi = psi - 1j * chi
+        m = index[:, np.newaxis]
+        term_a = log_derivative / m + order / x
+        term_b = log_derivative * m + order / x
+        a_n = (term_a * psi[:, 1:] - psi[:, :-1]) / (term_a * xi[:, 1:] - xi[:, :-1])
+        b_n = (term_b * psi[:, 1:] - psi[:, :-1]) / (term_b * xi[:, 1:] - xi[:, :-1])
+    inside = order <= _series_length(size_parameter)[:, np.newaxis]
+    return np.where(inside, a_n, 0.0), np.where(inside, b_n, 0.0)
+
+
+def _wavelength_averages(
+    index: complex, size_parameter: np.ndarray, area_weights: np.ndarray, n_moments: int
+) -> tuple[float, float, float, np.ndarray, int]:
+    """Size averages of Q_ext, Q_sca, Q_sca g and the phase moments at one wavelength.
+
+    ``size_parameter`` holds the size nodes in increasing order; they are processed in
+    blocks of neighbours, each block padded only to its own longest series. Returns the
+    three averages, the moments chi_0 .. chi_(n_moments - 1) and the number of angle nodes.
+    """
+    n_terms = int(_series_length(size_parameter).max())
+    # Gauss-Legendre rule in mu exact for the projection (see module docstring).
+    n_angles = n_terms + (n_moments + 1) // 2 + 1
+    cosines, angle_weights = special.roots_legendre(n_angles)  # O(n), unlike numpy
+    angular_pi, angular_tau = _angular_functions(cosines, n_terms)
+    order = np.arange(1, n_terms + 1)
+    scale = ((2.0 * order + 1.0) / (order * (order + 1.0)))[:, np.newaxis]
+    # S1 +- S2 = sum_n (2n+1)/(n(n+1)) (a_n +- b_n)(pi_n +- tau_n) (Bohren and Huffman
+    # 1983, chapter 4), and |S1|^2 + |S2|^2 = (|S1 + S2|^2 + |S1 - S2|^2) / 2: two real
+    # matrix products per block instead of four complex ones.
+    plus, minus = scale * (angular_pi + angular_tau), scale * (angular_pi - angular_tau)
+    sums = np.zeros(3)
+    phase_function = np.zeros(n_angles)
+    for start in range(0, size_parameter.size, _SPHERES_PER_BLOCK):
+        x = size_parameter[start : start + _SPHERES_PER_BLOCK]
+        weights = area_weights[start : start + _SPHERES_PER_BLOCK]
+        terms = int(_series_length(x).max())
+        a_n, b_n = _mie_coefficients(np.full(x.size, index), x, terms)
+        degree = order[:terms]
+        # Bohren and Huffman (1983) eqs. 4.61, 4.62 and the asymmetry sum of section 4.5.
+        q_ext = 2.0 / x**2 * ((2 * degree + 1) * (a_n + b_n).real).sum(axis=1)
+        q_sca = 2.0 / x**2 * ((2 * degree + 1) * (np.abs(a_n) ** 2 + np.abs(b_n) ** 2)).sum(1)
+        neighbours = (a_n[:, :-1] * np.conj(a_n[:, 1:]) + b_n[:, :-1] * np.conj(b_n[:, 1:])).real
+        q_sca_g = 4.0 / x**2 * (
+            (degree[:-1] * (degree[:-1] + 2.0) / (degree[:-1] + 1.0) * neighbours).sum(axis=1)
+            + ((2.0 * degree + 1.0) / (degree * (degree + 1.0)) * (a_n * np.conj(b_n)).real).sum(1)
+        )
+        sums += np.stack([q_ext, q_sca, q_sca_g]) @ weights
+        intensity = np.zeros((x.size, n_angles))
+        for pair, functions in ((a_n + b_n, plus), (a_n - b_n, minus)):
+            amplitude = np.concatenate([pair.real, pair.imag]) @ functions[:terms]
+            intensity += amplitude[: x.size] ** 2 + amplitude[x.size :] ** 2
+        # Unnormalised amplitudes: int_{-1}^{1} intensity dmu = x^2 Q_sca / 2, so dividing
+        # by x^2 and weighting by the area weights gives the cross-section weighted mean.
+        phase_function += (0.25 * weights / x**2) @ intensity
+    weighted = phase_function * angle_weights
+    legendre = np.empty((n_angles, n_moments))
+    legendre[:, 0] = 1.0
+    if n_moments > 1:
+        legendre[:, 1] = cosines
+    for degree in range(1, n_moments - 1):
+        legendre[:, degree + 1] = (
+            (2 * degree + 1) * cosines * legendre[:, degree] - degree * legendre[:, degree - 1]
+        ) / (degree + 1)
+    moments = (weighted @ legendre) / weighted.sum()
+    moments[0] = 1.0
+    return sums[0], sums[1], sums[2], moments, n_angles
 
 
 def _validate_refractive_index(refractive_index: ArrayLike, shape: tuple[int, ...]) -> np.ndarray:
@@ -237,8 +370,6 @@ def lognormal_optics(
     >>> bool((optics.single_scattering_albedo == 1.0).all())
     True
     """
-    import miepython  # slow import (numba may be loaded); keep it out of `import lamina`
-
     n_moments = _check_count("n_moments", n_moments, 1)
     wavelengths = _as_real_array("wavelength", wavelength)
     if wavelengths.ndim > 1:
@@ -249,7 +380,9 @@ def lognormal_optics(
     not_positive = wavelengths <= 0.0
     if np.any(not_positive):
         bad_value, where = _index_text(wavelengths, not_positive)
-        raise ValueError(f"wavelength must be > 0 (micrometres); got {bad_value:g}{where}")
+        raise ValueError(
+            f"wavelength must be > 0 (micrometres); got {number_text(bad_value)}{where}"
+        )
     index = _validate_refractive_index(refractive_index, wavelengths.shape)
     radius = _as_real_array("median_radius", median_radius)
     if radius.ndim != 0 or not radius > 0.0:
@@ -273,64 +406,21 @@ def lognormal_optics(
     mean_geometric = np.pi * float(radius) ** 2 * np.exp(2.0 * log_width**2)
 
     size_parameter = 2.0 * np.pi * radii[np.newaxis, :] / wavelengths[:, np.newaxis]
-    mie_index = np.broadcast_to(np.conj(index)[:, np.newaxis], size_parameter.shape)
-    flat_x = size_parameter.ravel()
-    flat_m = np.ascontiguousarray(mie_index.ravel())
-
-    # Efficiencies of every (wavelength, radius) sphere; miepython takes the arrays.
-    q_ext, q_sca, _, g_sphere = (
-        np.asarray(value, dtype=np.float64).reshape(size_parameter.shape)
-        for value in miepython.efficiencies_mx(flat_m, flat_x)
-    )
-    extinction_efficiency = q_ext @ area_weights
-    scattering_efficiency = q_sca @ area_weights
-    asymmetry = (q_sca * g_sphere) @ area_weights / scattering_efficiency
+    # One vectorised pass over all size nodes per wavelength (the series recurrences run
+    # over the order n, the products over spheres and angles as matrix products).
+    averages = [
+        _wavelength_averages(complex(m), x, area_weights, n_moments)
+        for m, x in zip(index, size_parameter, strict=True)
+    ]
+    extinction_efficiency = np.array([value[0] for value in averages])
+    scattering_efficiency = np.array([value[1] for value in averages])
+    asymmetry = np.array([value[2] for value in averages]) / scattering_efficiency
+    moments = np.stack([value[3] for value in averages])
+    n_angles = max(value[4] for value in averages)
     albedo = scattering_efficiency / extinction_efficiency
     # k = 0 conserves energy exactly; do not let round-off in Q_sca/Q_ext leave w != 1,
     # and never let it exceed 1.
     albedo = np.where(index.imag == 0.0, 1.0, np.minimum(albedo, 1.0))
-
-    # Mie coefficients a_n, b_n of every sphere from miepython, zero-padded to a common
-    # length. miepython computes one sphere per call: this comprehension runs over
-    # particles (wavelength x radius node), the granularity of its API.
-    coefficients = [miepython.coefficients(m, x) for m, x in zip(flat_m, flat_x, strict=True)]
-    n_terms = max(pair.shape[-1] for pair in coefficients)
-    a_n = np.zeros((flat_x.size, n_terms), dtype=np.complex128)
-    b_n = np.zeros((flat_x.size, n_terms), dtype=np.complex128)
-    for sphere, (a_sphere, b_sphere) in enumerate(coefficients):
-        a_n[sphere, : a_sphere.size] = a_sphere
-        b_n[sphere, : b_sphere.size] = b_sphere
-
-    # Size-averaged phase function on a Gauss-Legendre rule in mu that is exact for the
-    # projection (see module docstring).
-    n_angles = n_terms + (n_moments + 1) // 2 + 1
-    cosines, angle_weights = special.roots_legendre(n_angles)  # O(n), unlike numpy
-    angular_pi, angular_tau = _angular_functions(cosines, n_terms)
-    order = np.arange(1, n_terms + 1)
-    scale = (2.0 * order + 1.0) / (order * (order + 1.0))
-    # S1 = sum_n (2n+1)/(n(n+1)) (a_n pi_n + b_n tau_n), S2 with pi and tau swapped
-    # (Bohren and Huffman 1983, chapter 4): one matrix product for all spheres and angles.
-    s1 = (a_n * scale) @ angular_pi + (b_n * scale) @ angular_tau
-    s2 = (a_n * scale) @ angular_tau + (b_n * scale) @ angular_pi
-    intensity = 0.5 * (np.abs(s1) ** 2 + np.abs(s2) ** 2)
-    intensity = intensity.reshape(size_parameter.shape + (n_angles,))
-    # Unnormalised amplitudes: int_{-1}^{1} intensity dmu = x^2 Q_sca / 2, so dividing by
-    # x^2 and weighting by the area weights gives the cross-section weighted mean.
-    phase_function = np.einsum(
-        "wrk,r->wk", intensity / size_parameter[..., np.newaxis] ** 2, area_weights
-    )
-    weighted = phase_function * angle_weights
-    norm = weighted.sum(axis=-1)
-    legendre = np.empty((n_angles, n_moments))
-    legendre[:, 0] = 1.0
-    if n_moments > 1:
-        legendre[:, 1] = cosines
-    for degree in range(1, n_moments - 1):
-        legendre[:, degree + 1] = (
-            (2 * degree + 1) * cosines * legendre[:, degree] - degree * legendre[:, degree - 1]
-        ) / (degree + 1)
-    moments = (weighted @ legendre) / norm[:, np.newaxis]
-    moments[:, 0] = 1.0
 
     def variable(dims, values, units, long_name, **extra):
         return xr.Variable(dims, values, {"units": units, "long_name": long_name, **extra})
@@ -395,12 +485,12 @@ def lognormal_optics(
         "mean_geometric_cross_section_units": "um2",
         "refractive_index_convention": "m = n + i k, k >= 0 absorbing",
         "method": (
-            "Mie theory (miepython), averaged by composite Gauss-Legendre quadrature in log radius"
+            "Mie theory (series of Bohren and Huffman 1983), averaged by composite "
+            "Gauss-Legendre quadrature in log radius"
         ),
         "radius_panels": radius_panels,
         "radius_nodes": int(standard.size),
         "width_cutoff": float(cutoff),
         "angle_nodes": n_angles,
-        "miepython_version": miepython.__version__,
     }
     return xr.Dataset(data, coords=coords, attrs=attrs)

@@ -61,8 +61,12 @@ def _save(figure: Figure, path: str | os.PathLike[str] | None) -> Figure:
     return figure
 
 
-_UNIT_TEXT = {"degree": "°", "degrees": "°", "um": " µm", "micrometre": " µm", "nm": " nm",
-              "cm-1": " cm⁻¹", "1": ""}
+#: How units are written in figure texts. Every spelling of the micrometre becomes "µm"
+#: (one spelling on every axis, legend and title).
+_UNIT_TEXT = {"degree": "°", "degrees": "°", "nm": " nm", "cm-1": " cm⁻¹", "1": ""}
+_UNIT_TEXT.update(dict.fromkeys(
+    ("um", "µm", "μm", "micrometre", "micrometres", "micrometer", "micrometers", "micron",
+     "microns", "1e-6 m"), " µm"))
 
 
 def _format_value(result: xr.Dataset | xr.DataArray, dim: str, value: object) -> str:
@@ -74,7 +78,8 @@ def _format_value(result: xr.Dataset | xr.DataArray, dim: str, value: object) ->
 
 
 def _units(array: xr.DataArray) -> str:
-    units = array.attrs.get("units", "")
+    units = str(array.attrs.get("units", ""))
+    units = _UNIT_TEXT.get(units, units).strip()
     return f" [{units}]" if units not in ("", "1") else ""
 
 
@@ -233,6 +238,21 @@ def heating_rate_profile(result: xr.Dataset, *, vertical: str = "auto",
     return _save(figure, path)
 
 
+def _radiance_conditions(result: xr.Dataset, radiance: xr.DataArray,
+                          fixed: dict[str, int]) -> str:
+    """The sun angle and spectral point a radiance figure shows, when not already a dim."""
+    parts = []
+    if "sun_zenith" not in fixed:
+        if "sun_zenith" in radiance.coords and radiance["sun_zenith"].size == 1:
+            parts.append(_format_value(result, "sun_zenith", radiance["sun_zenith"].item()))
+        elif "sun_zenith" not in result.coords:
+            parts.append("no solar beam")
+    for dim in _SPECTRAL_DIMS:
+        if dim not in fixed and dim in radiance.coords and radiance[dim].size == 1:
+            parts.append(_format_value(result, dim, radiance[dim].item()))
+    return ", ".join(parts)
+
+
 def radiance_by_view_zenith(result: xr.Dataset, *, top_level: int = 0,
                             bottom_level: int = -1, azimuths: Sequence[float] | None = None,
                             path: str | os.PathLike[str] | None = None) -> Figure:
@@ -265,6 +285,8 @@ def radiance_by_view_zenith(result: xr.Dataset, *, top_level: int = 0,
     note = ", ".join(_format_value(radiance, d, radiance[d].values[i]
                                    if d in radiance.coords else i) for d, i in fixed.items())
     radiance = radiance.isel(fixed)
+    note = ", ".join(part for part in (_radiance_conditions(result, radiance, fixed), note)
+                     if part)
     all_azimuths = np.asarray(radiance["view_azimuth"].values, dtype=float)
     if azimuths is None:
         chosen = all_azimuths[_series_indices(all_azimuths.size)[:4]]
@@ -302,11 +324,15 @@ def _spectral_dim(result: xr.Dataset) -> str | None:
 
 
 def spectrum(result: xr.Dataset, *, path: str | os.PathLike[str] | None = None) -> Figure:
-    """Reflected, transmitted and absorbed fractions of the incident flux against wavelength.
+    """The budget of the incident flux against wavelength: reflected, absorbed, absorbed below.
 
-    Reflected: upward flux over downward flux at the top level; transmitted: total downward
-    flux at the bottom level over the same; absorbed in the atmosphere: the net flux
-    lost between top and bottom over the same. One line style per sun zenith (up to three).
+    Three fractions of the downward flux at the top level F_down(top): reflected at the top,
+    F_up(top) / F_down(top); absorbed in the atmosphere, the net flux lost between the top
+    and the bottom level, (F_net(top) - F_net(bottom)) / F_down(top); absorbed at the surface,
+    the net flux into it, F_net(bottom) / F_down(top) (F_net = down minus up). The three add
+    up to 1 at every wavelength (to round-off). Without thermal emission this is the budget
+    of the incident light; with emission the upward flux at the top includes emitted light
+    and the absorbed parts are net gains. One line style per sun zenith (up to three).
 
     Parameters
     ----------
@@ -329,12 +355,13 @@ def spectrum(result: xr.Dataset, *, path: str | os.PathLike[str] | None = None) 
         top["flux_down_diffuse"] + top["flux_down_direct"])
     down_bottom = bottom["flux_down"] if "flux_down" in result else (
         bottom["flux_down_diffuse"] + bottom["flux_down_direct"])
+    net_top = incident - top["flux_up"]
+    net_bottom = down_bottom - bottom["flux_up"]
     with np.errstate(invalid="ignore", divide="ignore"):
         fractions = {
             "reflected at the top": top["flux_up"] / incident,
-            "reaching the surface": down_bottom / incident,
-            "absorbed in the atmosphere": ((incident - top["flux_up"])
-                                           - (down_bottom - bottom["flux_up"])) / incident,
+            "absorbed in the atmosphere": (net_top - net_bottom) / incident,
+            "absorbed at the surface": net_bottom / incident,
         }
     figure, axes = _figure(1, width=6.0, height=4.0)
     ax = axes[0]
@@ -359,7 +386,7 @@ def spectrum(result: xr.Dataset, *, path: str | os.PathLike[str] | None = None) 
             handles.append(Line2D([], [], linestyle=styles[number], color="0.3",
                                   label=_format_value(result, series, value)))
     ax.set_xlabel(f"{dim}{_units(result[dim])}", fontsize=9)
-    ax.set_ylabel("fraction of the downward flux at the top", fontsize=9)
+    ax.set_ylabel("fraction of the downward flux at the top (parts add up to 1)", fontsize=9)
     low, high = ax.get_ylim()
     ax.set_ylim(min(0.0, low), max(1.0, high))
     figure.legend(handles=handles, loc="outside right center", fontsize=8, frameon=False)
