@@ -95,7 +95,7 @@ def make_atmosphere(
     single_scattering_albedo : array_like or DataArray, (..., layer)
         In [0, 1].
     phase_moments : array_like or DataArray, (..., layer, moment) or (moment,)
-        Legendre coefficients chi_l with chi_0 = 1 and |chi_l| <= 1; a single (moment,)
+        Legendre coefficients chi_l with chi_0 = 1 and ``|chi_l| <= 1``; a single (moment,)
         vector applies to every layer. Any length: the solver uses the terms it needs and
         the single-scattering correction uses them all.
     temperature : array_like or DataArray, (..., level), optional
@@ -117,7 +117,7 @@ def make_atmosphere(
     >>> import lamina
     >>> atm = lamina.make_atmosphere([0.1, 2.0], [1.0, 0.9], lamina.phase.rayleigh())
     >>> dict(atm.sizes)
-    {'layer': 2, 'moment': 3}
+    {'layer': 2, 'moment': 3, 'level': 3}
     """
     tau = _as_dataarray(optical_depth, "optical_depth", ["layer"], extra_dims)
     albedo = _as_dataarray(single_scattering_albedo, "single_scattering_albedo", ["layer"],
