@@ -43,7 +43,7 @@ extensions = [
 ]
 
 source_suffix = {".rst": "restructuredtext", ".md": "markdown"}
-exclude_patterns = ["_build", "**/GALLERY_HEADER.rst", "api/index.txt"]
+exclude_patterns = ["_build", "_generated", "**/GALLERY_HEADER.rst", "api/index.txt"]
 templates_path = ["_templates"]
 html_theme = "alabaster"
 html_static_path = ["_static"]
@@ -118,6 +118,7 @@ sphinx_gallery_conf = {
     "within_subsection_order": "FileNameSortKey",
     "image_scrapers": ("matplotlib",),
     "reset_modules": ("matplotlib",),
+    "write_computation_times": False,
 }
 
 # --- matplotlib plot directive (the geometry drawing) --------------------------------------

@@ -4,7 +4,8 @@ Reflected radiance in and out of the sun's plane
 
 Radiance leaving the top of a cloud layer against view zenith angle, on the
 forward-scattering side (view azimuth 0), across it (90) and on the backscattering side
-(180), where the glory-like rise of the backscatter peak appears. Radiance is in units of
+(180). The forward side is the brightest, more so at grazing angles: the forward-peaked
+phase function sends light on in the direction it was going. Radiance is in units of
 the beam's irradiance per steradian; :func:`lamina.plotting.radiance_by_view_zenith` draws
 the same figure in one call.
 """
