@@ -46,7 +46,6 @@ source_suffix = {".rst": "restructuredtext", ".md": "markdown"}
 exclude_patterns = ["_build", "_generated", "**/GALLERY_HEADER.rst", "api/index.txt"]
 templates_path = ["_templates"]
 html_theme = "alabaster"
-html_static_path = ["_static"]
 html_theme_options = {"description": "discrete-ordinates radiative transfer", "fixed_sidebar": True}
 
 # --- API reference -------------------------------------------------------------------------
