@@ -60,6 +60,7 @@ PUBLIC_MODULES = [
     "lamina.scenario",
     "lamina.io",
     "lamina.plotting",
+    "lamina.validation",
 ]
 UPCOMING_MODULES = ["lamina.surface", "lamina.planet", "lamina.polarization"]
 
