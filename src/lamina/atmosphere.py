@@ -189,7 +189,7 @@ def make_atmosphere(
     single_scattering_albedo : float, array_like or DataArray, (..., layer)
         In [0, 1]. A scalar (or a DataArray without a ``layer`` dim) holds for every layer.
     phase_moments : array_like or DataArray, (..., layer, moment) or (moment,)
-        Legendre coefficients chi_l with chi_0 = 1 and |chi_l| <= 1; a single (moment,)
+        Legendre coefficients chi_l with chi_0 = 1 and ``|chi_l| <= 1``; a single (moment,)
         vector applies to every layer. Any length: the solver uses the terms it needs and
         the single-scattering correction uses them all. Rows of different lengths (nested
         lists, or a list of arrays, one per layer) are padded with zeros.

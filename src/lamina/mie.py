@@ -24,22 +24,22 @@ Size averages (per particle, over the number distribution)::
     w     = C_sca / C_ext,          g = < pi r^2 Q_sca g_sphere > / C_sca,
 
 and the phase function is the scattering-cross-section weighted mean of the unpolarised
-single-sphere phase functions, (|S1|^2 + |S2|^2) / 2 up to normalisation.
+single-sphere phase functions, ``(|S1|^2 + |S2|^2) / 2`` up to normalisation.
 
 Method
 ------
 Weighting by the geometric cross-section pi r^2 turns the log-normal number distribution
 into another log-normal, with the same width and median r_g exp(2 s^2), and
 < pi r^2 > = pi r_g^2 exp(2 s^2) exactly. Every average above is therefore an average of
-Q (or of Q g, or of |S|^2 / x^2) over a standard normal variable
+Q (or of Q g, or of ``|S|^2 / x^2``) over a standard normal variable
 y = (ln r - ln r_g - 2 s^2) / s, taken on y in [-c, c] (c = ``width_cutoff``, 6 by
 default: the normal weight outside is 2e-9, so bounded efficiencies carry no truncation
 error worth the name; only in the Rayleigh limit, Q_sca ~ x^4, does the scattering weight
 shift by 4 s widths, and a wide distribution of very small particles then needs a larger
 cutoff). The rule is composite Gauss-Legendre, 6 nodes per panel, with panels no wider
-than 0.5 in y (to follow the normal density) and, within |y| <= 4, no wider than 1 in size
+than 0.5 in y (to follow the normal density) and, within ``|y| <= 4``, no wider than 1 in size
 parameter at the shortest wavelength (to follow the interference structure of the
-efficiencies, whose period in x is about pi / (n - 1)); beyond |y| = 4 the size-parameter
+efficiencies, whose period in x is about pi / (n - 1)); beyond ``|y| = 4`` the size-parameter
 requirement relaxes with the normal weight. Doubling the panels then changes the averages
 of absorbing spheres (k >~ 0.05) by less than about 1e-6. The narrow ripple resonances of
 weakly absorbing spheres are not resolved by any such rule: they leave scatter of order

@@ -466,7 +466,7 @@ def evaluate(phase_moments: ArrayLike, scattering_angle_deg: ArrayLike) -> NDArr
     Notes
     -----
     The series is summed by Clenshaw's recurrence (numpy.polynomial.legendre.legval),
-    which is stable for |cos T| <= 1.
+    which is stable for ``|cos T| <= 1``.
 
     Examples
     --------
@@ -531,7 +531,7 @@ def delta_m_scale(
     single_scattering_albedo : array_like
         w in [0, 1], shape (..., layer).
     phase_moments : array_like
-        Moments chi_l with chi_0 = 1 and |chi_l| <= 1, shape (..., layer, moment). If
+        Moments chi_l with chi_0 = 1 and ``|chi_l| <= 1``, shape (..., layer, moment). If
         there are fewer than M + 1 moments, the missing ones are zero (then f = 0 and
         the moments are only zero-padded to M).
     streams : int

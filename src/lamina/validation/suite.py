@@ -34,8 +34,8 @@ class CaseResult:
         From the case: its name, a one-line title, the published source (short and
         detailed) and the quantity compared.
     error_kind : str
-        ``"relative"`` (max |lamina / reference - 1|) or ``"absolute"``
-        (max |lamina - reference|, used where the reference is a rounded published number
+        ``"relative"`` (``max |lamina / reference - 1|``) or ``"absolute"``
+        (``max |lamina - reference|``, used where the reference is a rounded published number
         of known decimals).
     max_error : float
         The largest error of that kind over every compared value (``inf`` if the case
