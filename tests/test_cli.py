@@ -106,7 +106,7 @@ def test_run_resume_after_interruption(tmp_path, capsys, monkeypatch):
      "lamina run: error: {tmp}/absent.toml: no such scenario file\n"),
     (["run", "{broken}", "-o", "{tmp}/out.nc"],
      "lamina run: error: {broken}: [sun] unknown key 'zenit'; did you mean 'zenith'? (valid "
-     "keys: zenith, irradiance)\n"),
+     "keys: zenith, irradiance, irradiance_units)\n"),
     (["plot", "{tmp}/absent.nc"], "lamina plot: error: {tmp}/absent.nc: no such result file\n"),
 ])
 def test_errors_are_one_clean_line(tmp_path, capsys, arguments, message):

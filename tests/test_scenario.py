@@ -10,6 +10,7 @@ import numpy as np
 import pytest
 import xarray as xr
 
+import lamina
 from lamina.scenario import OUTPUT_VARIABLES, ScenarioError, load_scenario
 
 REPO = Path(__file__).resolve().parents[1]
@@ -164,7 +165,8 @@ def test_thermal_scenario(tmp_path):
     kwargs = scenario.solve_kwargs()
     assert kwargs["wavenumber_band"] == (500.0, 1500.0)
     assert "surface_temperature" not in kwargs  # lamina.solve takes the bottom level
-    assert kwargs["sun_irradiance"] == 0.0  # no [sun]: a purely thermal run
+    # no [sun]: no beam at all (no default adds a source)
+    assert "sun_irradiance" not in kwargs and "sun_zenith" not in kwargs
     assert kwargs["top_diffuse_radiance"] == 0.0
     atmosphere = scenario.build_atmosphere()
     np.testing.assert_array_equal(atmosphere["temperature"], [220, 250, 280])
@@ -256,7 +258,7 @@ def test_toml_syntax_error_gives_line_and_column(tmp_path):
 def test_unknown_key_suggests_the_nearest(tmp_path):
     message = error_for(tmp_path, SIMPLE.replace("zenith = 30", "zenit = 30"))
     assert message == ("[sun] unknown key 'zenit'; did you mean 'zenith'? "
-                       "(valid keys: zenith, irradiance)")
+                       "(valid keys: zenith, irradiance, irradiance_units)")
 
 
 def test_unknown_section_suggests_the_nearest(tmp_path):
@@ -339,11 +341,14 @@ def test_wrong_types_and_ranges(tmp_path, old, new, expected):
 def test_wrong_units(tmp_path):
     message = error_for(tmp_path, SIMPLE.replace(
         "[sun]", 'pressure = {values = [1, 10, 100, 1000], units = "hpa"}\n[sun]'))
-    assert message == ("[atmosphere] pressure.units: expected one of 'Pa', 'hPa', 'mbar', "
-                       "'bar'; got 'hpa' (did you mean 'hPa'?)")
+    assert message == ("[atmosphere] pressure.units: pressure has units 'hpa', which are not a "
+                       "known unit (did you mean 'hPa'?)")
     message = error_for(tmp_path, SIMPLE.replace(
         "[sun]", 'temperature = {values = [1, 10, 100, 1000], units = "C"}\n[sun]'))
-    assert message == "[atmosphere] temperature.units: expected one of 'K'; got 'C'"
+    # "C" is the coulomb, not a temperature: refused rather than read as Celsius
+    assert message == ("[atmosphere] temperature.units: temperature has units 'C', which are "
+                       "not a temperature unit (expected a unit convertible to K, such as K "
+                       "or degC)")
 
 
 def test_level_quantities_need_one_value_per_level(tmp_path):
@@ -495,3 +500,38 @@ def test_mie_needs_a_spectrum(tmp_path):
         """)
     assert message == ("[atmosphere.constituent #1] mie: expected a [spectrum] section to go "
                        "with Mie optics (they depend on wavelength)")
+
+
+def test_scenario_pressures_in_any_common_unit_agree_with_the_api(tmp_path):
+    # the scenario format and make_atmosphere convert through the same units library
+    for unit, factor in (("mb", 100.0), ("kPa", 1000.0), ("atm", 101325.0)):
+        path = tmp_path / f"{unit}.toml"
+        path.write_text(SIMPLE.replace(
+            "[sun]", f'pressure = {{values = [1, 10, 100, 1000], units = "{unit}"}}\n[sun]'))
+        atm = load_scenario(path).build_atmosphere()
+        np.testing.assert_allclose(atm.pressure.values,
+                                   np.array([1.0, 10.0, 100.0, 1000.0]) * factor)
+
+
+def test_irradiance_units_label_the_outputs(tmp_path):
+    path = tmp_path / "units.toml"
+    path.write_text(SIMPLE.replace("[sun]", '[sun]\nirradiance_units = "W m-2 um-1"')
+                    + "[view]\nzenith = [0, 60]\n")
+    scenario = load_scenario(path)
+    out = lamina.solve(scenario.build_atmosphere(), **scenario.solve_kwargs())
+    assert out.flux_up.attrs["units"] == "W m-2 um-1"
+    assert out.radiance.attrs["units"] == "W m-2 sr-1 um-1"
+
+
+def test_a_scenario_without_a_sun_records_no_sun_and_has_a_black_surface(tmp_path):
+    # no default adds a source or a reflector, in the scenario format as in the API
+    path = tmp_path / "thermal.toml"
+    path.write_text(SIMPLE.replace("[sun]\nzenith = 30\n", "")
+                    .replace("[atmosphere]", "[atmosphere]\ntemperature = [200, 220, 250, 280]")
+                    + "[thermal]\nwavenumber_band = [500, 800]\n")
+    scenario = load_scenario(path)
+    kwargs = scenario.solve_kwargs()
+    out = lamina.solve(scenario.build_atmosphere(), **kwargs)
+    assert "sun_zenith" not in out.coords and out.attrs["beam_source"] == 0
+    assert float(np.max(np.abs(out.flux_down_direct))) == 0.0
+    assert np.all(np.asarray(kwargs.get("surface_albedo", 0.0)) == 0.0)

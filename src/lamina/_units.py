@@ -36,7 +36,12 @@ def _parse(unit: str, name: str):
     try:
         return registry.Unit(_ALIASES.get(unit.strip(), unit.strip()))
     except Exception as error:   # pint raises several error types for unknown or bad text
-        raise ValueError(f"{name} has units {unit!r}, which are not a known unit") from error
+        hint = ""
+        for spelling in _SPELLINGS.get(name, ()):
+            if spelling.lower() == unit.strip().lower():
+                hint = f" (did you mean {spelling!r}?)"
+        raise ValueError(f"{name} has units {unit!r}, which are not a known unit"
+                         f"{hint}") from error
 
 
 def to_si(values: np.ndarray, unit: object, name: str) -> np.ndarray:
@@ -62,6 +67,14 @@ def to_si(values: np.ndarray, unit: object, name: str) -> np.ndarray:
     quantity = _registry().Quantity(np.asarray(values, dtype=np.float64), source)
     return np.asarray(quantity.to(wanted).magnitude, dtype=np.float64)
 
+
+# the common spellings, for a did-you-mean on a miscapitalised unit
+_SPELLINGS = {
+    "pressure": ("Pa", "hPa", "mbar", "mb", "kPa", "bar", "atm"),
+    "temperature": ("K", "degC"),
+    "altitude": ("m", "km", "ft"),
+    "sun_irradiance": (),
+}
 
 _EXAMPLES = {
     "pressure": "Pa, hPa, mbar, mb, kPa, bar or atm",

@@ -21,9 +21,10 @@ layer boundaries) too.
     [atmosphere]
     # level quantities (optional; temperature is needed for thermal runs, pressure for
     # heating rates)
-    pressure = {values = [1, 100, 300, 600, 1000], units = "hPa"}   # Pa, hPa, mbar, bar
-    temperature = [200, 220, 250, 270, 288]                           # K
-    altitude = {values = [40, 16, 9, 4, 0], units = "km"}             # m, km
+    pressure = {values = [1, 100, 300, 600, 1000], units = "hPa"}   # Pa, hPa, mbar, mb, kPa,
+                                                                      # bar, atm
+    temperature = [200, 220, 250, 270, 288]                           # K (or degC)
+    altitude = {values = [40, 16, 9, 4, 0], units = "km"}             # m, km, ft
     gravity = 9.80665            # m s-2, for heating rates (default: Earth)
     heat_capacity = 1004.0       # J kg-1 K-1, for heating rates (default: Earth air)
 
@@ -64,10 +65,12 @@ layer boundaries) too.
     wavelength = {start = 0.4, stop = 2.4, count = 30, units = "um"}   # or a list; nm, um, m
     reference_wavelength = 0.55                  # same units as wavelength (default: 0.55 um)
 
-    [sun]                                        # optional (no sun: a purely thermal run)
+    [sun]                                        # optional (no sun: no beam at all)
     zenith = 30.0                                # degrees in [0, 90); a list adds a dim
-    irradiance = 1.0                             # on a plane normal to the beam; a list per
-                                                 # wavelength is allowed
+    irradiance = 1.0                             # on a plane normal to the beam (default 1);
+                                                 # a list per wavelength is allowed
+    irradiance_units = "W m-2 nm-1"              # optional: labels every flux and radiance
+                                                 # (without it they are relative to it)
 
     [view]                                       # optional: radiances at these angles
     zenith = [0, 30, 60]                         # degrees in [0, 90]
@@ -75,6 +78,7 @@ layer boundaries) too.
 
     [surface]
     albedo = 0.1                                 # Lambertian, [0, 1]; or a list per wavelength
+                                                 # (default 0: a black surface)
     temperature = 288.0                          # K (thermal runs; default: bottom level)
 
     [thermal]                                    # optional: thermal emission

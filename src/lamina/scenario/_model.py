@@ -51,8 +51,11 @@ class Scenario:
     heat_capacity: float | None = None
     wavelength: np.ndarray | None = None
     reference_wavelength: float = 0.55
-    sun_zenith: float | np.ndarray = 0.0
-    sun_irradiance: float | np.ndarray = 0.0
+    #: None: no beam (a thermal run, or one lit only by the top's diffuse radiance)
+    sun_zenith: float | np.ndarray | None = None
+    sun_irradiance: float | np.ndarray | None = None
+    #: labels the outputs (e.g. "W m-2 nm-1"); None: outputs relative to the irradiance
+    irradiance_units: str | None = None
     view_zenith: np.ndarray | None = None
     view_azimuth: np.ndarray | None = None
     surface_albedo: float | np.ndarray = 0.0
@@ -73,13 +76,16 @@ class Scenario:
         """True when the scenario has a wavelength dimension."""
         return self.wavelength is not None
 
-    def _spectral_array(self, values: float | np.ndarray, name: str, units: str,
+    def _spectral_array(self, values: float | np.ndarray, name: str, units: str | None,
                         long_name: str) -> float | xr.DataArray:
+        attrs = {"long_name": long_name} if units is None else {"units": units,
+                                                                "long_name": long_name}
         if np.ndim(values) == 0:
-            return float(values)
+            return float(values) if units is None else xr.DataArray(float(values),
+                                                                    attrs=attrs)
         return xr.DataArray(np.asarray(values, dtype=float), dims=["wavelength"],
                             coords={"wavelength": self._wavelength_coord()},
-                            name=name, attrs={"units": units, "long_name": long_name})
+                            name=name, attrs=attrs)
 
     def _wavelength_coord(self) -> xr.Variable:
         return xr.Variable("wavelength", np.asarray(self.wavelength, dtype=float),
@@ -112,11 +118,13 @@ class Scenario:
     def solve_kwargs(self) -> dict[str, Any]:
         """Keyword arguments of :func:`lamina.solve` for this scenario."""
         kwargs: dict[str, Any] = dict(self.solver)
-        kwargs["sun_zenith"] = (float(self.sun_zenith) if np.ndim(self.sun_zenith) == 0
-                                else np.asarray(self.sun_zenith, dtype=float))
-        kwargs["sun_irradiance"] = self._spectral_array(
-            self.sun_irradiance, "sun_irradiance", "W m-2",
-            "stellar irradiance on a plane normal to the beam")
+        if self.sun_zenith is not None:
+            kwargs["sun_zenith"] = (float(self.sun_zenith) if np.ndim(self.sun_zenith) == 0
+                                    else np.asarray(self.sun_zenith, dtype=float))
+            kwargs["sun_irradiance"] = self._spectral_array(
+                1.0 if self.sun_irradiance is None else self.sun_irradiance,
+                "sun_irradiance", self.irradiance_units,
+                "stellar irradiance on a plane normal to the beam")
         kwargs["surface_albedo"] = self._spectral_array(
             self.surface_albedo, "surface_albedo", "1", "Lambertian surface albedo")
         if self.view_zenith is not None:

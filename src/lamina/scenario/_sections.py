@@ -61,11 +61,13 @@ def _parse_sun_and_view(root: _Table, scenario: dict[str, Any],
     """``[sun]`` (zenith angles and irradiance) and ``[view]`` (radiance directions)."""
     if root.has("sun"):
         sun = _section(root, "sun")
-        sun.check_keys(["zenith", "irradiance"])
+        sun.check_keys(["zenith", "irradiance", "irradiance_units"])
         zenith = sun.numbers("zenith", what="degrees", low=0.0, high=90.0, high_open=True)
         scenario["sun_zenith"] = float(zenith) if zenith.ndim == 0 else zenith
         scenario["sun_irradiance"] = _spectral_or_scalar(
             sun, "irradiance", np.asarray(1.0), n_wavelengths, what="an irradiance", low=0.0)
+        if sun.has("irradiance_units"):
+            scenario["irradiance_units"] = sun.string("irradiance_units")
     if root.has("view"):
         view = _section(root, "view")
         view.check_keys(["zenith", "azimuth"])
@@ -123,8 +125,6 @@ def _parse_thermal(root: _Table, scenario: dict[str, Any], spectral: bool) -> No
     if not root.has("thermal") and not root.has("sun"):
         raise ScenarioError(f"{file}: expected a [sun] or a [thermal] section (a source of "
                             "light); got neither")
-    if not root.has("sun"):
-        scenario["sun_irradiance"] = 0.0
 
 
 def _parse_output(root: _Table, scenario: dict[str, Any]) -> None:

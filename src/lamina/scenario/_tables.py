@@ -15,12 +15,12 @@ from typing import Any
 
 import numpy as np
 
-# Conversion factors to lamina's internal units (micrometre, Pa, m).
+from lamina._units import SI_UNITS, to_si
+
+# Conversion factors of wavelengths to micrometres. Pressures, temperatures and altitudes
+# are converted to Pa, K and m by lamina._units (the pint library), as in make_atmosphere.
 _UNITS: dict[str, dict[str, float]] = {
     "wavelength": {"nm": 1e-3, "um": 1.0, "micrometre": 1.0, "micrometer": 1.0, "m": 1e6},
-    "pressure": {"Pa": 1.0, "hPa": 100.0, "mbar": 100.0, "bar": 1e5},
-    "altitude": {"m": 1.0, "km": 1e3},
-    "temperature": {"K": 1.0},
 }
 
 _REQUIRED = object()
@@ -148,12 +148,15 @@ class _Table:
         value = self.raw(key, default, expected)
         if value is default and default is not _REQUIRED:
             return value
-        factor = 1.0
+        factor, units = 1.0, None
         if quantity is not None and isinstance(value, Mapping):
             table = self.sub(key)
             table.check_keys(["values", "units"])
-            units = table.string("units", choices=tuple(_UNITS[quantity]))
-            factor = _UNITS[quantity][units]
+            if quantity in SI_UNITS:
+                units = table.string("units")
+            else:
+                units = table.string("units", choices=tuple(_UNITS[quantity]))
+                factor = _UNITS[quantity][units]
             value = table.raw("values", expected=expected)
         if _is_number(value) and scalar:
             array = np.asarray(float(value))
@@ -165,14 +168,21 @@ class _Table:
                                     f"{array.size} number{'s' if array.size != 1 else ''}")
         else:
             raise self.error(key, expected, value)
-        array = array * factor
+        given = array
+        if quantity in SI_UNITS and units is not None:
+            try:
+                array = to_si(array, units, quantity)
+            except ValueError as error:
+                raise ScenarioError(f"{self.where(key)}.units: {error}") from None
+        else:
+            array = array * factor
         bad = ~np.isfinite(array)
         if low is not None:
             bad |= (array <= low) if low_open else (array < low)
         if high is not None:
             bad |= (array >= high) if high_open else (array > high)
         if np.any(bad):
-            first = float(np.ravel(array)[np.flatnonzero(np.ravel(bad))[0]]) / factor
+            first = float(np.ravel(given)[np.flatnonzero(np.ravel(bad))[0]])
             raise ScenarioError(f"{self.where(key)}: expected {expected}; got {first:g}")
         return array
 
