@@ -457,7 +457,11 @@ def hapke(single_scattering_albedo: Any, asymmetry: Any = 0.0, opposition_amplit
     -----
     f = r / mu0 is reciprocal. With w = 1 and isotropic particles the exact H-function would
     give a directional albedo of exactly 1; the 2002 approximation gives about 0.986, the 1981
-    one about 1.04, which the energy check refuses (so w near 1 needs the default).
+    one about 1.04, which the energy check refuses (so w near 1 needs the default). The
+    multiple-scattering term is that of isotropic particles whatever the asymmetry, and the
+    opposition surge adds to the single scattering, so at w = 1 a backscattering phase
+    function or a surge puts more than the incident energy into the upper hemisphere (1.12 at
+    asymmetry -0.4): the check refuses those too.
 
     References
     ----------
