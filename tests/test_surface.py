@@ -147,6 +147,30 @@ def test_glint_albedo_is_fresnel_at_low_wind(wind):
     np.testing.assert_allclose(albedo, fresnel, rtol=5.0 * variance)
 
 
+def test_glint_at_the_specular_point():
+    # Cox and Munk (1954): at the specular direction the reflecting facet is level
+    # (tan theta_n = 0, mu_n = 1, chi = theta0), so f = R_F(theta0) / (4 pi sigma^2 mu0^2)
+    # without shadowing; with it, times S = 1 / (1 + 2 Lambda(nu0)) where Smith's (1967)
+    # Lambda is by definition int_{cot}^inf (z - cot) p(z) dz / cot over the one-dimensional
+    # Gaussian slope density of variance sigma^2 / 2 (integrated here by scipy quad)
+    wind, sun = 5.0, 80.0  # near grazing, where Lambda is of order 0.1
+    variance = surface.cox_munk_slope_variance(wind)
+    mu0 = np.cos(np.deg2rad(sun))
+    flat = surface.fresnel_reflectance(mu0, 1.334) / (4 * np.pi * variance * mu0 ** 2)
+    np.testing.assert_allclose(surface.cox_munk(wind, shadowing=False).brdf(sun, sun, 0.0),
+                               flat, rtol=1e-14)
+    cot = mu0 / np.sqrt(1 - mu0 ** 2)
+    s1 = np.sqrt(variance / 2)
+
+    def density(z):
+        return np.exp(-z * z / (2 * s1 * s1)) / np.sqrt(2 * np.pi * s1 * s1)
+
+    lam, _ = integrate.quad(lambda z: (z - cot) * density(z), cot, np.inf, epsabs=1e-15)
+    lam /= cot
+    np.testing.assert_allclose(surface.cox_munk(wind).brdf(sun, sun, 0.0),
+                               flat / (1 + 2 * lam), rtol=1e-9)
+
+
 def test_glint_slope_distribution_normalised():
     # the isotropic Gaussian of Cox and Munk (1954) integrates to 1 over the slopes: check
     # by integrating the model's BRDF with R_F = 1 and no shadowing in slope space

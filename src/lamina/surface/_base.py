@@ -356,6 +356,11 @@ class Surface:
                             coords={**template.coords, **coords})
 
     # --- weighted sums ---------------------------------------------------------------
+    # numpy scalars and arrays hand ``weight * surface`` to __rmul__ instead of making an
+    # object array; a DataArray weight must come second (``surface * weight``) or go
+    # through `weighted_sum`, because xarray's own __mul__ takes the first turn
+    __array_ufunc__ = None
+
     def __mul__(self, weight: Any) -> Surface:
         return WeightedSum([(weight, self)])
 
