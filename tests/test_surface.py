@@ -389,6 +389,16 @@ def test_spectral_parameters_broadcast():
     assert f_m.dims == ("wavelength", "fourier_term", "reflected", "incident")
 
 
+@pytest.mark.parametrize("name", list(_all_surfaces()))
+def test_brdf_finite_up_to_grazing(name):
+    # no silent NaN: every model is finite at nadir, at exact backscatter and forward
+    # azimuths and at views a hair from the horizon (where secants are 1e7)
+    angles = np.array([0.0, 1e-9, 1e-3, 30.0, 89.9, 89.99999])
+    sun, view, azimuth = np.meshgrid(angles, angles, [0.0, 1e-9, 90.0, 180.0 - 1e-9, 180.0],
+                                     indexing="ij")
+    assert np.all(np.isfinite(_all_surfaces()[name].brdf(sun, view, azimuth)))
+
+
 # --- weighted sums ---------------------------------------------------------------------
 
 def test_weighted_sum_is_linear():
@@ -433,6 +443,8 @@ def test_weighted_sum_refuses_negative_weight_and_excess():
     (lambda: surface.hapke(0.5, opposition_width=0.0), "opposition_width must lie in"),
     (lambda: surface.hapke(0.5, h_approximation="exact"), "h_approximation must be"),
     (lambda: surface.lambertian(0.3).brdf(95.0, 0.0, 0.0), "sun_zenith must lie in"),
+    (lambda: surface.lambertian(0.3).brdf(30.0, 90.0, 0.0), r"view_zenith must lie in \[0, 90\)"),
+    (lambda: surface.lambertian(0.3).brdf(30.0, np.nan, 0.0), "view_zenith must lie in"),
     (lambda: surface.lambertian(0.3).fourier_terms([0.0], [0.5], 2), "incident_cosines"),
     (lambda: surface.lambertian(0.3).fourier_terms([0.5], [0.5], 0), "n_terms must be"),
 ])

@@ -172,8 +172,8 @@ class Surface:
         Parameters
         ----------
         sun_zenith, view_zenith : scalar, array or DataArray
-            Zenith angles of the sun and of the view, in [0, 90] degrees (90 excluded for
-            the sun).
+            Zenith angles of the sun and of the view, in [0, 90) degrees (at 90 several
+            models have infinite secants).
         view_azimuth : scalar, array or DataArray
             Azimuth of the reflected propagation direction from that of the incident beam's
             propagation (degrees): 0 is the specular side, 180 the backscatter (hot spot).
@@ -444,7 +444,7 @@ def _angle(value: Any, name: str) -> Any:
 
 
 def _check_angles(arrays: dict[str, Any]) -> None:
-    limits = {"sun_zenith": (0.0, 90.0, True), "view_zenith": (0.0, 90.0, False),
+    limits = {"sun_zenith": (0.0, 90.0, True), "view_zenith": (0.0, 90.0, True),
               "view_azimuth": (-360.0, 360.0, False)}
     for name, value in arrays.items():
         low, high, high_open = limits[name]

@@ -222,7 +222,10 @@ def ross_li(isotropic_weight: Any, volumetric_weight: Any, geometric_weight: Any
     R = f_iso + f_vol K_RossThick + f_geo K_LiSparseR, and f = R / pi. The weights are in
     reflectance-factor units, non-negative. The Li-sparse crown shape is h/b = 2, b/r = 1
     (``CROWN_HEIGHT_RATIO``, ``CROWN_SHAPE_RATIO``). Both kernels vanish for sun and view at
-    nadir, so f_iso is the nadir reflectance factor there.
+    nadir, so f_iso is the nadir reflectance factor there. K_geo falls like -sec(theta)
+    towards the horizon, so with f_geo > 0 the BRDF turns negative at views or suns close
+    enough to grazing (a property of the model); the energy check is on the directional
+    albedo, which must stay in [0, 1].
 
     References
     ----------
