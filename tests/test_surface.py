@@ -399,6 +399,33 @@ def test_brdf_finite_up_to_grazing(name):
     assert np.all(np.isfinite(_all_surfaces()[name].brdf(sun, view, azimuth)))
 
 
+def test_directional_emissivity_is_one_minus_albedo():
+    # Kirchhoff's law (e.g. Siegel and Howell, Thermal Radiation Heat Transfer): in
+    # equilibrium the directional emissivity is 1 minus the directional albedo; for a
+    # Lambertian surface exactly 1 - A
+    np.testing.assert_allclose(surface.lambertian(0.3).directional_emissivity([0.0, 60.0]),
+                               0.7, rtol=1e-13)
+    model = surface.cox_munk(5.0)
+    np.testing.assert_allclose(model.directional_emissivity(50.0),
+                               1.0 - model.directional_albedo(50.0), rtol=1e-15)
+
+
+def test_hemispherical_directional_equals_directional_hemispherical():
+    # Helmholtz reciprocity: the reflectance of diffuse light into mu (integral over the
+    # incident directions) equals the directional albedo A(mu); integrated by scipy dblquad
+    # (pointwise reciprocity with the surge is tested above; without it dblquad is quick)
+    model = surface.rahman_pinty_verstraete(0.12, 1.2, 0.1, hot_spot=1.0)
+    view = 50.0
+
+    def integrand(phi, theta):
+        f = model.brdf(np.rad2deg(theta), view, np.rad2deg(phi))
+        return 2.0 * f * np.cos(theta) * np.sin(theta)
+
+    incoming, _ = integrate.dblquad(integrand, 0.0, 0.5 * np.pi, 0.0, np.pi,
+                                    epsabs=1e-11, epsrel=1e-9)
+    assert abs(incoming - model.directional_albedo(view)) < 1e-7
+
+
 # --- weighted sums ---------------------------------------------------------------------
 
 def test_weighted_sum_is_linear():

@@ -233,6 +233,18 @@ class Surface:
         return self._integrate_over_views(sun_zenith, zenith_panels or self._zenith_panels,
                                           np.cos(phi), 2.0 * wphi)
 
+    def directional_emissivity(self, view_zenith: Any) -> Any:
+        """Emissivity towards ``view_zenith``: 1 - A(mu), Kirchhoff's law for a surface in
+        thermal equilibrium, with A the directional albedo at the same angle (by Helmholtz
+        reciprocity the hemispherical-directional reflectance into mu equals A(mu) for a
+        reciprocal BRDF). Same return types as `directional_albedo`."""
+        albedo = self.directional_albedo(view_zenith)
+        emissivity = 1.0 - albedo
+        if isinstance(emissivity, xr.DataArray):
+            emissivity = emissivity.rename("directional_emissivity").assign_attrs(
+                units="1", long_name="directional emissivity")
+        return emissivity
+
     def fourier_terms(self, incident_cosines: Any, reflected_cosines: Any, n_terms: int,
                       azimuth_panels: int | None = None) -> xr.DataArray:
         """Azimuthal Fourier expansion of the BRDF on given cosines.
