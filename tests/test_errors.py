@@ -749,6 +749,8 @@ def test_kernel_refuses_wrong_arrays_with_a_value_error(case, kernel_outcomes):
 # ------------------------------------------------------------------ SolverError
 
 
+# the moments are made to break the kernel, and their series is negative (as lamina warns)
+@pytest.mark.filterwarnings("ignore::lamina.LaminaWarning")
 def test_solver_error_names_the_layer_and_the_fourier_term():
     # chi = [1, 0, 0, 1] (|chi_l| <= 1, accepted) is no phase function: its scattering
     # matrix for the m = 1 term has an eigenvalue above 1, so without delta-M the

@@ -27,7 +27,8 @@ def _atmosphere(n_wavelength: int = 10, n_layers: int = 4) -> xr.Dataset:
     wavelength = np.linspace(0.4, 1.0, n_wavelength)
     tau = rng.uniform(0.01, 1.0, (n_wavelength, n_layers))
     ssa = rng.uniform(0.5, 1.0, (n_wavelength, n_layers))
-    moments = lamina.phase.henyey_greenstein(np.full((n_wavelength, n_layers), 0.7), 8)
+    # 16 moments: HG 0.7 cut at 8 is negative near backscatter (lamina warns)
+    moments = lamina.phase.henyey_greenstein(np.full((n_wavelength, n_layers), 0.7), 16)
     atmosphere = lamina.make_atmosphere(tau, ssa, moments, extra_dims=("wavelength",))
     return atmosphere.assign_coords(wavelength=("wavelength", wavelength, {"units": "um"}))
 

@@ -15,9 +15,9 @@ import lamina
 atm = lamina.make_atmosphere(
     optical_depth=[0.1, 4.0, 0.5],
     single_scattering_albedo=[1.0, 0.999, 0.9],
-    phase_moments=np.stack([lamina.phase.rayleigh(n_moments=32),
-                            lamina.phase.henyey_greenstein(0.85, 32),
-                            lamina.phase.henyey_greenstein(0.7, 32)]),
+    phase_moments=np.stack([lamina.phase.rayleigh(n_moments=64),
+                            lamina.phase.henyey_greenstein(0.85, 64),
+                            lamina.phase.henyey_greenstein(0.7, 64)]),
 )
 positions = np.concatenate([[0.0], np.linspace(1.0, 2.0, 21), [3.0]])
 out = lamina.solve(atm, streams=16, sun_zenith=30.0, surface_albedo=0.1,

@@ -17,6 +17,7 @@ import importlib as _importlib
 # io, mie and scenario import lamina.solve only inside their functions, so the order of
 # these imports cannot make a cycle
 from lamina import io, mie, phase, planck, progress, quadrature, scenario, surface
+from lamina._checks import LaminaWarning
 from lamina.atmosphere import check_atmosphere, make_atmosphere
 from lamina.solve import SolverError, solve
 
@@ -26,6 +27,7 @@ __version__ = "0.1.0"
 _LAZY_MODULES = ("plotting", "validation")
 
 __all__ = [
+    "LaminaWarning",
     "SolverError",
     "__version__",
     "check_atmosphere",

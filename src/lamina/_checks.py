@@ -94,3 +94,11 @@ def require_range(
             f"{name} must lie in {left}{low_text}, {high_text}{right}; "
             f"{where_text(bad, labels)} has {number_text(value)}"
         )
+
+
+class LaminaWarning(UserWarning):
+    """A warning of lamina's: the inputs are valid but the result may not be what was meant.
+
+    Filter lamina's warnings alone with ``warnings.simplefilter("error", lamina.LaminaWarning)``
+    (or ``"ignore"``).
+    """

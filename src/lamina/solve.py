@@ -29,6 +29,7 @@ from lamina._solver.corrections import correct_radiance, unscale_direct_beam
 from lamina._solver.kernel_call import solve_block
 from lamina._solver.options import check_options
 from lamina._solver.outputs import assemble
+from lamina._solver.phase_checks import warn_about_phase_functions
 from lamina._solver.scaling import scale_layers
 from lamina._solver.thermal_sources import planck_sources
 from lamina.atmosphere import check_atmosphere
@@ -193,6 +194,7 @@ def _solve_block(
     """Solve one block of columns (numpy in, numpy out); leading axes are columns."""
     block = prepare_block(tau, albedo, moments, sun_zenith, irradiance, surface_albedo,
                           planck_levels, planck_surface, top_radiance, settings)
+    warn_about_phase_functions(block, settings)
     layers = scale_layers(block.optical_depth, block.single_scattering_albedo,
                           block.phase_moments, settings.streams, settings.delta_m)
     fields = solve_block(block, layers, settings)
