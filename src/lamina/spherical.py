@@ -101,10 +101,18 @@ def slant_path_lengths(radius: object, zenith_angle: object) -> tuple[np.ndarray
     p = impact[..., :, None]                                      # (..., level, 1)
 
     def chord(radius_of: np.ndarray) -> np.ndarray:
-        # half-chord from the tangent point out to radius_of; zero inside the tangent circle
-        return np.sqrt(np.clip(radius_of * radius_of - p * p, 0.0, None))
+        # half-chord from the tangent point out to radius_of; zero inside the tangent circle;
+        # (r - p)(r + p) rather than r^2 - p^2 keeps the digits when r is huge
+        return np.sqrt(np.clip((radius_of - p) * (radius_of + p), 0.0, None))
 
-    single = chord(top) - chord(np.maximum(bottom, p))
+    inner = np.maximum(bottom, p)
+    outer_chord, inner_chord = chord(top), chord(inner)
+    # chord(t) - chord(b) = (t - b)(t + b) / (chord(t) + chord(b)), without the cancellation
+    # of two nearly equal chords (thin shells, huge radii); zero where the ray misses the shell
+    total = outer_chord + inner_chord
+    with np.errstate(divide="ignore", invalid="ignore"):
+        single = np.where(total > 0.0, (top - inner) * (top + inner) / total, 0.0)
+    single = np.clip(single, 0.0, None)
     level_radius = r[..., :, None]
     above = bottom >= level_radius * (1.0 - 1e-15)                # layer j above level i
     below = (top <= level_radius * (1.0 + 1e-15)) & below_horizon[..., :, None]
