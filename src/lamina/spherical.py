@@ -113,9 +113,10 @@ def slant_path_lengths(radius: object, zenith_angle: object) -> tuple[np.ndarray
     with np.errstate(divide="ignore", invalid="ignore"):
         single = np.where(total > 0.0, (top - inner) * (top + inner) / total, 0.0)
     single = np.clip(single, 0.0, None)
-    level_radius = r[..., :, None]
-    above = bottom >= level_radius * (1.0 - 1e-15)                # layer j above level i
-    below = (top <= level_radius * (1.0 + 1e-15)) & below_horizon[..., :, None]
+    nlevel = r.shape[-1]
+    # layer j lies between levels j and j + 1: above level i when j < i
+    above = np.arange(nlevel - 1)[None, :] < np.arange(nlevel)[:, None]   # (level, layer)
+    below = ~above & below_horizon[..., :, None]
     path = np.where(above, single, 0.0) + np.where(below, 2.0 * single, 0.0)
     reaches = ~(below_horizon & (impact < r[..., -1:]))
     path = np.where(reaches[..., :, None], path, 0.0)
