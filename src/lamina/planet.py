@@ -78,7 +78,8 @@ def _positive_order(value: object, name: str, minimum: int = 1) -> int:
     return int(value)
 
 
-def disk_nodes(phase_angle: np.ndarray, order: int) -> dict[str, np.ndarray]:
+def disk_nodes(phase_angle: np.ndarray, order: int, angle_order: int | None = None
+               ) -> dict[str, np.ndarray]:
     """Local geometries and weights of the disk quadrature at each phase angle.
 
     Parameters
@@ -86,7 +87,9 @@ def disk_nodes(phase_angle: np.ndarray, order: int) -> dict[str, np.ndarray]:
     phase_angle : numpy.ndarray, (P,)
         Phase angles in degrees, each in [0, 180].
     order : int
-        Number of Gauss-Legendre points in mu0 and, for each mu0, in psi.
+        Number of Gauss-Legendre points in mu0 (shared by every phase angle).
+    angle_order : int, optional
+        Number of Gauss-Legendre points in psi for each mu0 (default ``order``).
 
     Returns
     -------
@@ -108,7 +111,7 @@ def disk_nodes(phase_angle: np.ndarray, order: int) -> dict[str, np.ndarray]:
     0.666666666667
     """
     mu0, w0 = _gauss_unit(order)
-    t, wt = _gauss_unit(order)
+    t, wt = _gauss_unit(order if angle_order is None else angle_order)
     a = np.radians(np.asarray(phase_angle, dtype=np.float64))[:, None]   # (P, 1)
     sin0 = np.sqrt(1.0 - mu0 * mu0)[None, :]                              # (1, order)
     cos_a, sin_a = np.cos(a), np.sin(a)
@@ -183,13 +186,13 @@ def _disk_integrals(
     angles: np.ndarray,
     streams: int,
     surface_albedo: object,
-    order: int,
+    order: tuple[int, int],
     solve_options: dict,
 ) -> xr.DataArray:
     """The disk integral of I mu dA at each phase angle (one solve call for all of them)."""
     from lamina.solve import solve  # here: solve imports modules that may import this one
 
-    nodes = disk_nodes(angles, order)
+    nodes = disk_nodes(angles, *order)
     sun_zenith = np.degrees(np.arccos(nodes["sun_cosine"]))
     view_zenith = np.degrees(np.arccos(nodes["view_cosine"]))
     views, view_index = np.unique(view_zenith, return_inverse=True)
@@ -247,8 +250,8 @@ def phase_curve(
     stokes: int = 1,
     *,
     stellar_spectrum: xr.DataArray | None = None,
-    disk_order: int = 16,
-    phase_integral_order: int = 24,
+    disk_order: int | tuple[int, int] = (24, 12),
+    phase_integral_order: int = 12,
     delta_m: bool = True,
     single_scattering_correction: bool = True,
     fourier_tolerance: float = 1e-6,
@@ -276,10 +279,13 @@ def phase_curve(
     stellar_spectrum : xarray.DataArray, optional
         Stellar irradiance over one spectral dim of the atmosphere (with its coordinate):
         adds ``bond_albedo``, the spherical albedo weighted by it (trapezoidal rule).
-    disk_order : int
-        Gauss-Legendre points in mu0 and in the angle around the sub-stellar point. The cost
-        is about disk_order^3 x (phase angles + phase_integral_order + 1) x (K + 1)
-        radiances, K = max(streams, moments) - 1.
+    disk_order : int or (int, int)
+        Gauss-Legendre points in mu0 and in the angle psi around the sub-stellar point (one
+        int: the same for both). The error falls about as mu0_points^-2.5 away from phase 0
+        (a Lambert sphere: 5e-5 of p at 16, 1e-5 at 32, 1e-6 at 64; see the module
+        docstring); the angle converges geometrically. The radiances computed number
+        mu0_points^2 x psi_points x (phase angles + phase_integral_order + 1) x (K + 1) x 2,
+        K = max(streams, moments) - 1, per column of the atmosphere's extra dims.
     phase_integral_order : int
         Gauss-Legendre points in the phase angle for the phase integral.
     delta_m, single_scattering_correction, fourier_tolerance
@@ -308,7 +314,11 @@ def phase_curve(
     if isinstance(streams, bool) or not isinstance(streams, int | np.integer) \
             or streams < 2 or streams % 2:
         raise ValueError(f"streams must be an even integer >= 2; got {streams!r}")
-    order = _positive_order(disk_order, "disk_order")
+    if isinstance(disk_order, tuple | list) and len(disk_order) == 2:
+        order = (_positive_order(disk_order[0], "disk_order"),
+                 _positive_order(disk_order[1], "disk_order"))
+    else:
+        order = (_positive_order(disk_order, "disk_order"),) * 2
     integral_order = _positive_order(phase_integral_order, "phase_integral_order")
     nodes, weights = _gauss_unit(integral_order)
     integral_angles = 180.0 * nodes
@@ -342,7 +352,7 @@ def phase_curve(
     result["phase_angle"].attrs = {"long_name": "phase angle (star-planet-observer)",
                                    "units": "degree"}
     result.attrs = {"title": "lamina disk-integrated reflected light",
-                    "streams": int(streams), "disk_order": order,
+                    "streams": int(streams), "disk_order": list(order),
                     "phase_integral_order": integral_order,
                     "disk_quadrature": "Gauss-Legendre in mu0 and in the angle around the "
                                        "sub-stellar point; azimuth through the exact cosine "
