@@ -33,7 +33,8 @@ Gauss-Legendre in mu0 on (0, 1) and, for each mu0, Gauss-Legendre in psi on (0, 
 
 Why these coordinates: :func:`lamina.solve` returns radiances on the outer product
 sun_zenith x view_zenith x view_azimuth. The mu0 nodes are the same for every phase angle,
-so all the suns of the whole phase curve are ``disk_order`` angles, and each (sun, view) pair
+so all the suns of the whole phase curve are the mu0 points of ``disk_order``, and each
+(sun, view) pair
 that the disk needs is used once, at one azimuth. The azimuth is not sampled at the needed
 values: the reflected radiance at fixed (mu, mu0) is a finite cosine series in the azimuth,
 of degree K = max(streams, moments) - 1 (the discrete-ordinates series has at most
@@ -47,8 +48,20 @@ one homogeneous solution per layer and Fourier term.
 The price of the shared mu0 nodes: for 0 < a < 180 the visible part of the circle mu0 =
 const changes from a full circle to an arc at mu0 = sin a, where the inner integral has a
 (sin a - mu0)^(3/2) singularity, so the quadrature converges algebraically (about
-disk_order^-2.5) rather than geometrically away from a = 0 and a = 180. At a = 0 (the
-geometric albedo) every circle is wholly visible and the convergence is geometric.
+mu0_points^-2.5) rather than geometrically away from a = 0 and a = 180, and crescents
+(a > 150 or so) are resolved by the few mu0 points below sin a. At a = 0 (the geometric
+albedo) every circle is wholly visible and the convergence is geometric.
+
+The other price is the outer product itself: of the mu0_points x views x (K + 1)
+radiances that solve computes, one in mu0_points x (K + 1) is used (measured: 20 phase
+angles, 16 streams, 32 moments, 3 layers, the default orders: 10 s and 1.1 GB on one core).
+A solve mode that takes a list of (sun, view, azimuth) triples would remove that factor.
+
+With delta-M and the single-scattering correction (the defaults) the disk integrates the
+corrected radiances, while lamina's fluxes, and so the plane albedo, stay those of the
+truncated phase function: the spherical albedo here and 2 int A(mu0) mu0 dmu0 from fluxes
+then differ by the truncation (about 1% for a Henyey-Greenstein g = 0.7 with 16 moments and
+8 streams); they agree to the quadrature's accuracy when the moments fit the streams.
 """
 
 from __future__ import annotations
@@ -250,7 +263,7 @@ def phase_curve(
     stokes: int = 1,
     *,
     stellar_spectrum: xr.DataArray | None = None,
-    disk_order: int | tuple[int, int] = (24, 12),
+    disk_order: int | tuple[int, int] = (16, 8),
     phase_integral_order: int = 12,
     delta_m: bool = True,
     single_scattering_correction: bool = True,
