@@ -2,9 +2,9 @@
 
 ``import lamina`` makes every public module available as an attribute: ``lamina.phase``,
 ``lamina.planck``, ``lamina.io``, ``lamina.mie``, ``lamina.scenario``, ``lamina.surface``,
-``lamina.progress`` and ``lamina.quadrature`` are imported with the package;
-``lamina.plotting`` (which loads matplotlib) and ``lamina.validation`` are imported on first
-use.
+``lamina.planet``, ``lamina.spherical``, ``lamina.progress`` and ``lamina.quadrature`` are
+imported with the package; ``lamina.plotting`` (which loads matplotlib) and
+``lamina.validation`` are imported on first use.
 
 >>> import lamina
 >>> atm = lamina.make_atmosphere(optical_depth=[0.1, 1.0], single_scattering_albedo=[1.0, 0.9],
@@ -16,7 +16,18 @@ import importlib as _importlib
 
 # io, mie and scenario import lamina.solve only inside their functions, so the order of
 # these imports cannot make a cycle
-from lamina import io, mie, phase, planck, progress, quadrature, scenario, surface
+from lamina import (
+    io,
+    mie,
+    phase,
+    planck,
+    planet,
+    progress,
+    quadrature,
+    scenario,
+    spherical,
+    surface,
+)
 from lamina._checks import LaminaWarning
 from lamina.atmosphere import check_atmosphere, make_atmosphere
 from lamina.solve import SolverError, solve
@@ -36,11 +47,13 @@ __all__ = [
     "mie",
     "phase",
     "planck",
+    "planet",
     "plotting",
     "progress",
     "quadrature",
     "scenario",
     "solve",
+    "spherical",
     "surface",
     "validation",
 ]
