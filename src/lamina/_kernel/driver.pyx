@@ -196,6 +196,36 @@ cdef void point_workspace(double *base, dict at, Layers *ly, Scratch *sc, Grid *
     gr.sqw = base + <Py_ssize_t>at["sqw"]
 
 
+cdef tuple allocate_workspace(Sizes *sz, Layers *ly, Scratch *sc, Grid *gr):
+    """Allocate the column workspace and point the structs into it; returns its owners."""
+    cdef Py_ssize_t n = sz.n, ldab = 3 * (3 * sz.n - 1) + 1, neq = 2 * sz.n * sz.nlayer
+    cdef lapack_int info = 0, ni = <lapack_int>sz.n, lwork_query = -1
+    cdef double work_size = 0.0
+    cdef char job_a = b'A'
+    cdef double[::1] pool_view, probe
+    cdef unsigned char[::1] ipiv_view
+    probe = np.zeros(n * n + n)
+    dgesvd(&job_a, &job_a, &ni, &ni, &probe[0], &ni, &probe[n * n], &probe[0], &ni,
+           &probe[0], &ni, &work_size, &lwork_query, &info)
+    sizes = _workspace_sizes(n, sz.nlayer, sz.nsun, sz.npos, max(sz.nvz, 1), sz.nva, ldab,
+                             work_size)
+    offsets = {}
+    total = 0
+    for name, count in sizes.items():
+        offsets[name] = total
+        total += count
+    pool = np.zeros(total)
+    pool_view = pool
+    point_workspace(&pool_view[0], offsets, ly, sc, gr)
+    sc.lwork = <lapack_int>sizes["work"]
+    ipiv_buffer = np.zeros(neq * sizeof(lapack_int), dtype=np.uint8)
+    ipiv_view = ipiv_buffer
+    sc.ipiv = <lapack_int *>&ipiv_view[0]
+    sc.ldab = <lapack_int>ldab
+    sc.kl = <lapack_int>(3 * n - 1)
+    return pool, ipiv_buffer
+
+
 cdef struct Outputs:
     # one column's blocks of the caller's output arrays
     double *flux_up             # [sun][pos]
@@ -362,13 +392,8 @@ def solve_columns(
     cdef Outputs out
     cdef Py_ssize_t ncol = optical_depth.shape[0]
     cdef Py_ssize_t n = quadrature_cosines.shape[0]
-    cdef Py_ssize_t ldab, neq, col, i, nmodes
-    cdef lapack_int info = 0, ni, lwork_query = -1
-    cdef double work_size = 0.0
+    cdef Py_ssize_t col, i, nmodes
     cdef bint want_radiance
-    cdef char job_a = b'A'
-    cdef double[::1] pool_view, probe
-    cdef unsigned char[::1] ipiv_view
 
     sz.n = n
     sz.nl = 2 * n
@@ -409,24 +434,8 @@ def solve_columns(
     )
     nmodes = min(max(1, max_fourier_terms), sz.nl) if want_radiance else 1
 
-    # One pool of workspace for a column, reused by every column.
-    ldab = 3 * (3 * n - 1) + 1
-    neq = 2 * n * sz.nlayer
-    ni = <lapack_int>n
-    probe = np.zeros(n * n + n)
-    dgesvd(&job_a, &job_a, &ni, &ni, &probe[0], &ni, &probe[n * n], &probe[0], &ni,
-           &probe[0], &ni, &work_size, &lwork_query, &info)
-    sizes = _workspace_sizes(n, sz.nlayer, sz.nsun, sz.npos, max(sz.nvz, 1), sz.nva, ldab,
-                             work_size)
-    offsets = {}
-    total = 0
-    for name, count in sizes.items():
-        offsets[name] = total
-        total += count
-    pool = np.zeros(total)
-    pool_view = pool
-    point_workspace(&pool_view[0], offsets, &ly, &sc, &gr)
-    sc.lwork = <lapack_int>sizes["work"]
+    # one pool of workspace for a column, reused by every column (kept alive here)
+    _workspace = allocate_workspace(&sz, &ly, &sc, &gr)
     for i in range(n):
         gr.mu[i] = quadrature_cosines[i]
         gr.wq[i] = quadrature_weights[i]
@@ -436,11 +445,6 @@ def solve_columns(
     gr.phi = &view_azimuths[0] if sz.nva > 0 else NULL
     gr.position_layer = &position_layer[0] if sz.npos > 0 else NULL
     gr.position_fraction = &position_fraction[0] if sz.npos > 0 else NULL
-    ipiv_buffer = np.zeros(neq * sizeof(lapack_int), dtype=np.uint8)
-    ipiv_view = ipiv_buffer
-    sc.ipiv = <lapack_int *>&ipiv_view[0]
-    sc.ldab = <lapack_int>ldab
-    sc.kl = <lapack_int>(3 * n - 1)
     cl.thermal = thermal
 
     with nogil:
@@ -465,6 +469,7 @@ def solve_columns(
                             want_radiance, &out) == 0:
                 check_finite(&sz, &out)
     return None
+
 
 def dexp_for_tests(double a, double b, double length):
     """Test hook for the continuous exponential difference used in the angular integrals."""

@@ -273,8 +273,6 @@ cdef void thermal_slope(Layers *ly, Py_ssize_t layer, Py_ssize_t n, double depth
         ly.b1[layer] = (bottom - top) / depth
 
 
-
-
 cdef int homogeneous_solutions(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Grid *gr,
                                Py_ssize_t mode, Py_ssize_t *failed_layer,
                                Py_ssize_t *failed_code, lapack_int *failed_info) noexcept nogil:
@@ -318,11 +316,11 @@ cdef void beam_geometry(Sizes *sz, Scratch *sc, Layers *ly, Column *cl,
     recomputes the transmittance to each layer top (``ttop``) and across each layer (``eb``)
     and marks the beam's view-angle integrals stale (``beamdone``).
     """
-    cdef Py_ssize_t n = sz.n, s, i, layer, attempt
+    cdef Py_ssize_t n = sz.n, s, i, layer, _attempt
     cdef double closest, x, sumtau, sec
     for s in range(sz.nsun):
         sc.mu0e[s] = cl.mu0[s]
-        for attempt in range(8):
+        for _attempt in range(8):
             closest = 1.0
             for i in range(sz.nlayer * n):
                 x = fabs(sc.mu0e[s] * ly.k[i] - 1.0)
