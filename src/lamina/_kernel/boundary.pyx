@@ -2,7 +2,7 @@
 # cython: initializedcheck=False
 """The boundary-value problem of one Fourier term: a banded system for the mode coefficients.
 
-Method (Stamnes and Conklin 1984; Thomas and Stamnes 1999, ch. 9): the solution in each
+Method (Stamnes and Conklin 1984; Thomas and Stamnes 1999): the solution in each
 layer is the particular solution plus a combination of the 2n homogeneous modes. Each mode
 is referred to the boundary it decays away from (C_k exp(-k (t - t_top)) for the upward-
 decaying half, D_k exp(-k (t_bottom - t)) for the other), so every exponential is <= 1 and

@@ -1,15 +1,16 @@
 # cython: language_level=3
 # The kernel's bottom room: constants, status codes, the shared structs and the inline helpers.
 #
-# Every stage module (``layers``, ``boundary``, ``sources``, ``driver``) cimports this file and
-# nothing else of the kernel's, so the stages never import one another. Everything here is
+# The stage modules ``layers``, ``boundary`` and ``sources`` cimport this file and nothing else
+# of the kernel's, so they never import one another; ``driver`` cimports this file and the
+# stages' entry points (their .pxd files). Everything here is
 # ``cdef inline`` and defined in this file, so each stage compiles its own copy of the helpers
 # into its innermost loops (no call across modules there). Nothing here needs a compiled
 # module of its own.
 #
 # Methods: the continuous exponential difference ``dexp`` and its cached forms are the
 # analytic layer integrals of the source function (Stamnes and Swanson 1981; Thomas and
-# Stamnes 1999, ch. 8), written so that the removable singularities mu = 1/k and mu = mu0 cost
+# Stamnes 1999), written so that the removable singularities mu = 1/k and mu = mu0 cost
 # nothing; ``legendre_table`` is the three-term recurrence in degree for the normalised
 # associated Legendre functions, without the Condon-Shortley phase.
 #
