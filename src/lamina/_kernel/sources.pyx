@@ -6,8 +6,8 @@ Method (the source-function integration of Stamnes and Swanson 1981 and Thomas a
 1999; the integration of the discrete-ordinates solution goes back to Chandrasekhar 1950,
 Radiative Transfer): with the mode coefficients known, the source function J(t, mu) of a
 layer at a view cosine is the phase-function quadrature of the layer's solution plus the
-beam (and Planck) sources, a sum of exponentials in t. The radiance at the view cosine is then integrated analytically
-through each layer, I(t) = I(t_b) exp(-(t_b - t)/mu) + int J exp(-(t' - t)/mu) dt'/mu; the
+beam (and Planck) sources, a sum of exponentials in t. The radiance at the view cosine is
+then integrated analytically through each layer, I(t) = I(t_b) exp(-(t_b - t)/mu) + int J exp(-(t' - t)/mu) dt'/mu; the
 removable singularities (mu = 1/k, mu = mu0) are evaluated through ``dexp``, continuous
 across them. Levels are swept from the surface up and from the top down; an output position
 inside a layer adds the partial integral from its level. Fluxes and the mean intensity at
