@@ -7,11 +7,11 @@ Method (the source-function integration of Stamnes and Swanson 1981 and Thomas a
 Radiative Transfer): with the mode coefficients known, the source function J(t, mu) of a
 layer at a view cosine is the phase-function quadrature of the layer's solution plus the
 beam (and Planck) sources, a sum of exponentials in t. The radiance at the view cosine is
-then integrated analytically through each layer, I(t) = I(t_b) exp(-(t_b - t)/mu) + int J exp(-(t' - t)/mu) dt'/mu; the
-removable singularities (mu = 1/k, mu = mu0) are evaluated through ``dexp``, continuous
-across them. Levels are swept from the surface up and from the top down; an output position
-inside a layer adds the partial integral from its level. Fluxes and the mean intensity at
-output positions are the quadrature sums of the term-0 solution.
+then integrated analytically through each layer, I(t) = I(t_b) exp(-(t_b - t)/mu) + int J
+exp(-(t' - t)/mu) dt'/mu; the removable singularities (mu = 1/k, mu = mu0) are evaluated
+through ``dexp``, continuous across them. Levels are swept from the surface up and from the
+top down; an output position inside a layer adds the partial integral from its level. Fluxes
+and the mean intensity at output positions are the quadrature sums of the term-0 solution.
 
 Speed: exponentials along the view directions are made once per column (``eu``, ``et``),
 the beam's layer integrals once per column unless the resonance shift moves mu0; integrals
