@@ -53,15 +53,16 @@ def count(columns: int, layers: int, radiance: bool, four: bool) -> dict[str, in
         environment = dict(os.environ, OPENBLAS_NUM_THREADS="1")
         subprocess.run(
             ["valgrind", "--tool=callgrind", f"--callgrind-out-file={out}",
-             # the Python-facing wrapper only: a pattern that also matched the function it
-             # calls would toggle counting off again on entering it
-             "--toggle-collect=__pyx_pw_*lamina_7_kernel_*solve_columns", sys.executable,
+             # the Python-facing wrapper only (in lamina/_kernel/driver.pyx): a pattern that
+             # also matched the function it calls would toggle counting off again on entering it
+             "--toggle-collect=__pyx_pw_*lamina_7_kernel_6driver_*solve_columns",
+             sys.executable,
              "-c", script],
             check=True, env=environment, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
         report = subprocess.run(
             ["callgrind_annotate", "--inclusive=yes", "--threshold=100", str(out)],
             check=True, capture_output=True, text=True).stdout
-    counts = {"total": _inclusive(report, r"lamina_7_kernel_\d+solve_columns")}
+    counts = {"total": _inclusive(report, r"lamina_7_kernel_6driver_\d+solve_columns")}
     for routine in FLOOR_ROUTINES:
         counts[routine] = _inclusive(report, rf"cython_lapack_{routine}\b")
     return counts
