@@ -357,3 +357,36 @@ def test_lazy_atmosphere_without_view_angles():
     assert lazy.flux_up.chunks is not None
     for name in ("flux_up", "flux_down", "mean_intensity"):
         assert np.array_equal(lazy[name].values, eager[name].values), name
+
+
+@pytest.mark.parametrize("top_radiance", [0.0, 0.3, 2.5, 1e-9])
+@pytest.mark.parametrize("streams", [4, 16])
+def test_the_top_boundary_is_exact(top_radiance, streams):
+    # the boundary condition at the top (exact by definition): the downward diffuse radiance
+    # entering is the sky's isotropic radiance R, so the downward diffuse flux there is
+    # exactly pi R (0 under a black sky), in conservative slabs where the boundary-value
+    # problem meets it only to round-off
+    moments = np.stack([hg(0.8, 128), lamina.phase.rayleigh(0.0, 128)])
+    for thickness in ([1.0, 30.0], [0.01, 0.02], [200.0, 5.0]):
+        atm = lamina.make_atmosphere(thickness, [1.0, 1.0], moments)
+        out = lamina.solve(atm, streams=streams, sun_zenith=[0.0, 60.0, 85.0],
+                           top_diffuse_radiance=top_radiance, view_zenith=[0.0, 45.0],
+                           view_azimuth=[0.0, 180.0])
+        top = out.isel(level=0)
+        assert np.all(top.flux_down_diffuse.values == np.pi * top_radiance)
+        assert np.all(top.radiance.sel(direction="down").values == top_radiance)
+
+
+def test_no_flux_is_negative_beyond_round_off():
+    # every flux is a sum of non-negative radiances (exact): negative values may come only
+    # from round-off, below 1e-12 of the incident flux
+    moments = np.stack([hg(0.85, 128), hg(0.0, 128), lamina.phase.rayleigh(0.03, 128)])
+    for albedo in ([1.0, 1.0, 1.0], [0.999, 0.5, 1.0]):
+        atm = lamina.make_atmosphere([0.3, 12.0, 1e-6], albedo, moments)
+        for surface in (0.0, 0.7):
+            out = lamina.solve(atm, streams=16, sun_zenith=[0.0, 70.0, 89.0],
+                               surface_albedo=surface, output_levels=[0, 0.5, 1, 1.01, 2, 3])
+            incident = np.cos(np.radians(out.sun_zenith))
+            for name in ("flux_up", "flux_down_diffuse", "flux_down_direct",
+                         "mean_intensity"):
+                assert float((out[name] / incident).min()) >= -1e-12, name

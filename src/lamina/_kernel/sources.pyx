@@ -259,14 +259,24 @@ cdef void fluxes(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Grid *gr, doubl
                  double *flux_down, double *mean_intensity) noexcept nogil:
     """Diffuse fluxes and mean intensity at the output positions from the term-0 solution.
 
-    The outputs are the column's blocks, indexed [sun][position].
+    The outputs are the column's blocks, indexed [sun][position]. At the ground the upward
+    radiance is likewise the Lambertian surface's boundary condition applied to the downward
+    radiance there. At the top of the
+    atmosphere the downward diffuse radiance is the boundary condition itself (the sky's
+    isotropic radiance): it is used there exactly, not as the solution's value, which meets
+    it only to the round-off of the boundary-value problem (1e-12 of the incident flux in
+    thick conservative stacks), so that the downward diffuse flux at the top is exactly
+    pi times the sky radiance, and 0 under a black sky.
     """
     cdef Py_ssize_t n = sz.n, p, s, i, layer
-    cdef double dt1, dt2, sec, x, fu, fd, jm, up, down
+    cdef double dt1, dt2, sec, x, fu, fd, jm, up, down, reflected
+    cdef bint at_top, at_bottom
     for p in range(sz.npos):
         layer = gr.position_layer[p]
         dt1 = gr.position_fraction[p] * cl.tau[layer]
         dt2 = cl.tau[layer] - dt1
+        at_top = layer == 0 and gr.position_fraction[p] == 0.0
+        at_bottom = layer == sz.nlayer - 1 and gr.position_fraction[p] == 1.0
         for i in range(n):
             sc.e1[i] = exp(-ly.k[layer * n + i] * dt1)
             sc.e2[i] = exp(-ly.k[layer * n + i] * dt2)
@@ -276,16 +286,33 @@ cdef void fluxes(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Grid *gr, doubl
             fu = 0.0
             fd = 0.0
             jm = 0.0
+            if at_bottom:
+                # at the ground the upward radiance is the surface's boundary condition,
+                # taken exactly from the downward radiance there (a black, cold surface
+                # sends up exactly nothing)
+                reflected = sc.surfbeam[s]
+                if cl.thermal:
+                    reflected = reflected + (1.0 - cl.surface_albedo) * cl.surface_planck
+                for i in range(n):
+                    reflected = reflected + sc.refl[i] * quadrature_radiance(
+                        sz, ly, layer, s, i, False, dt1, x, sc.e1, sc.e2, cl.thermal)
             for i in range(n):
-                up = quadrature_radiance(sz, ly, layer, s, i, True, dt1, x, sc.e1, sc.e2,
-                                         cl.thermal)
-                down = quadrature_radiance(sz, ly, layer, s, i, False, dt1, x, sc.e1, sc.e2,
-                                           cl.thermal)
+                if at_bottom:
+                    up = reflected
+                else:
+                    up = quadrature_radiance(sz, ly, layer, s, i, True, dt1, x, sc.e1, sc.e2,
+                                             cl.thermal)
+                if at_top:
+                    down = cl.top_radiance
+                else:
+                    down = quadrature_radiance(sz, ly, layer, s, i, False, dt1, x, sc.e1,
+                                               sc.e2, cl.thermal)
                 fu = fu + gr.wq[i] * gr.mu[i] * up
                 fd = fd + gr.wq[i] * gr.mu[i] * down
                 jm = jm + 0.5 * gr.wq[i] * (up + down)
             flux_up[s * sz.npos + p] = 2.0 * PI * fu
-            flux_down[s * sz.npos + p] = 2.0 * PI * fd
+            # the double-Gauss weights integrate mu over a hemisphere to 1/2 up to round-off
+            flux_down[s * sz.npos + p] = PI * cl.top_radiance if at_top else 2.0 * PI * fd
             mean_intensity[s * sz.npos + p] = jm
 
 

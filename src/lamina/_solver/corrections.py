@@ -44,7 +44,9 @@ def unscale_direct_beam(block: Block, layers: Layers, positions: Positions,
     cos0 = block.beam_cosines[:, :, None]
     direct = s * cos0 * np.exp(-depth[:, None, :] / cos0)
     direct_scaled = s * cos0 * np.exp(-depth_s[:, None, :] / cos0)
-    fields.flux_down_diffuse = fields.flux_down_diffuse + direct_scaled - direct
+    # the difference first: at the top it is exactly 0, and the diffuse flux there stays
+    # exactly the sky's (the kernel's boundary value)
+    fields.flux_down_diffuse = fields.flux_down_diffuse + (direct_scaled - direct)
     fields.mean_intensity = fields.mean_intensity + direct_scaled / (4.0 * np.pi * cos0)
     fields.flux_down_direct = direct
     return depth
