@@ -39,7 +39,8 @@ _ATTRS = {
                     "standard_name": "air_temperature"},
     "pressure": {"units": "Pa", "long_name": "pressure at the level",
                  "standard_name": "air_pressure"},
-    "altitude": {"units": "m", "long_name": "altitude of the level", "standard_name": "altitude"},
+    "altitude": {"units": "m", "long_name": "altitude of the level", "standard_name": "altitude",
+                 "positive": "up"},
     "layer": {"units": "1", "long_name": "layer number, counted from the top"},
     "level": {"units": "1", "long_name": "level number (layer boundary), counted from the top"},
     "moment": {"units": "1", "long_name": "Legendre degree l of the phase-function moment"},
@@ -202,8 +203,9 @@ def make_atmosphere(
         may vary along the extra dims (one profile per column).
     extra_dims : sequence of str, or mapping of str to array_like, optional
         Names of the leading dims of plain arrays, e.g. ``["wavelength"]``. A mapping also
-        gives each dim its coordinate values, e.g. ``{"wavelength": [0.4, 0.5, 0.6]}``
-        (or attach them later with ``atmosphere.assign_coords(wavelength=...)``).
+        gives each dim its coordinate values, e.g. ``{"wavelength": [0.4, 0.5, 0.6]}``, or a
+        DataArray whose attributes (units, long_name) the coordinate keeps (or attach them
+        later with ``atmosphere.assign_coords(wavelength=...)``).
     units : mapping, optional
         Units of the level inputs given as plain arrays, e.g. ``{"pressure": "hPa"}``.
         Any unit of the right dimension that the pint library knows (Pa, hPa, mbar, mb,
@@ -283,11 +285,12 @@ def _with_extra_coordinates(ds: xr.Dataset, extra_dims: object) -> xr.Dataset:
             continue
         if dim not in ds.dims:
             raise ValueError(f"extra_dims gives coordinates for {dim!r}, which no input has")
+        attrs = dict(values.attrs) if isinstance(values, xr.DataArray | xr.Variable) else {}
         values = np.asarray(values)
         if values.shape != (ds.sizes[dim],):
             raise ValueError(f"extra_dims[{dim!r}] must have one value per {dim} "
                              f"({ds.sizes[dim]}); got shape {values.shape}")
-        coords[dim] = values
+        coords[dim] = (dim, values, attrs)
     return ds.assign_coords(coords)
 
 

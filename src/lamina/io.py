@@ -27,6 +27,7 @@ from typing import Any
 import numpy as np
 import xarray as xr
 
+from lamina._cf import cf_encode
 from lamina.progress import ProgressBar
 
 __all__ = [
@@ -141,7 +142,12 @@ def _prepared(dataset: xr.Dataset, settings: Mapping[str, Any] | None) -> xr.Dat
     out.attrs = {key: _attribute(value) for key, value in attrs.items()}
     for variable in out.variables.values():
         variable.attrs = {key: _attribute(value) for key, value in variable.attrs.items()}
-    return out
+    return cf_encode(out)
+
+
+def _cf_keys(encoding: Mapping[str, Any]) -> dict[str, Any]:
+    # the CF encodings (lamina._cf) that an explicit per-variable encoding must keep
+    return {key: encoding[key] for key in ("_FillValue", "dtype") if key in encoding}
 
 
 def _umask() -> int:
@@ -202,7 +208,7 @@ def write_netcdf(dataset: xr.Dataset, path: str | os.PathLike[str], *,
     target = check_writable(path)
     prepared = _prepared(dataset, settings)
     encoding = {
-        name: {"zlib": True, "complevel": 4}
+        name: {**_cf_keys(variable.encoding), "zlib": True, "complevel": 4}
         for name, variable in prepared.variables.items()
         if compress and np.issubdtype(variable.dtype, np.floating) and variable.ndim > 0
     }

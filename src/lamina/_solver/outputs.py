@@ -14,6 +14,7 @@ import datetime as _datetime
 import numpy as np
 import xarray as xr
 
+from lamina._cf import cf_encode
 from lamina._solver.common import (
     POSITION_DIM,
     SECONDS_PER_DAY,
@@ -40,7 +41,7 @@ def assemble(
     units = output_units(options.beam, options.irradiance_units, thermal,
                          options.top_radiance_units)
     _describe(out, units, settings, options.beam)
-    return out
+    return cf_encode(out)
 
 
 def _labelled(results, names, atmosphere: xr.Dataset, options: Options) -> xr.Dataset:
@@ -145,7 +146,7 @@ _COORDINATES = {
     "pressure": {"pressure": {"long_name": "pressure at the level", "units": "Pa",
                               "standard_name": "air_pressure"}},
     "altitude": {"altitude": {"long_name": "altitude of the level", "units": "m",
-                              "standard_name": "altitude"}},
+                              "standard_name": "altitude", "positive": "up"}},
 }
 
 
@@ -163,6 +164,8 @@ def _describe(out: xr.Dataset, units: OutputUnits, settings: BlockSettings,
         "long_name": "optical depth from the top of the atmosphere (unscaled)", "units": "1"}
     out["level"].attrs = {"long_name": "level number from the top (fractional: position "
                                        "inside a layer, in optical depth)", "units": "1"}
+    if "layer" in out.coords:
+        out["layer"].attrs = {"long_name": "layer number from the top", "units": "1"}
     for trigger, coordinates in _COORDINATES.items():
         if trigger in out.coords:
             for name, attributes in coordinates.items():
