@@ -192,6 +192,8 @@ def _summary(result: xr.Dataset) -> list[str]:
                       if d in result.coords)
     lines = [f"  at {where}:"] if where else []
     units = result["flux_up"].attrs.get("units", "")
+    if units == "1":   # no units on the irradiance: fluxes are fractions of it
+        units = "(in units of the stellar irradiance)"
     if "wavelength" in top.dims:
         albedo = (top["flux_up"] / top["flux_down"]).values
         wavelength = result["wavelength"].values
