@@ -26,7 +26,7 @@ gives the rest::
     cos a = mu mu0 - sqrt(1 - mu^2) sqrt(1 - mu0^2) cos phi   (phi: lamina's relative azimuth,
                                                               180 = backscattering side)
 
-A point is visible where mu > 0, that is for |psi| < psi_max(mu0, a) with
+A point is visible where mu > 0, that is for ``|psi| < psi_max(mu0, a)`` with
 cos psi_max = -mu0 cos a / (sqrt(1 - mu0^2) sin a) (clipped to [-1, 1]). The integral is
 Gauss-Legendre in mu0 on (0, 1) and, for each mu0, Gauss-Legendre in psi on (0, psi_max)
 (twice, by the mirror symmetry about the scattering plane).

@@ -240,13 +240,13 @@ def ross_li(isotropic_weight: Any, volumetric_weight: Any, geometric_weight: Any
 
 
 def fresnel_reflectance(cos_incidence: Any, refractive_index: Any) -> np.ndarray:
-    """Fresnel reflectance of unpolarized light from air onto a medium of (complex)
-    refractive index n: R = (|r_s|^2 + |r_p|^2) / 2 with
+    """Fresnel reflectance of unpolarized light from air onto a medium of index n.
 
-    r_s = (cos i - n cos t) / (cos i + n cos t), r_p = (n cos i - cos t) / (n cos i + cos t),
-    cos t = (1 - sin^2 i / n^2)^(1/2)   (Born and Wolf, Principles of Optics, sec. 1.5).
-
-    At normal incidence R = |(n - 1) / (n + 1)|^2.
+    The refractive index may be complex: ``R = (|r_s|^2 + |r_p|^2) / 2`` with
+    ``r_s = (cos i - n cos t) / (cos i + n cos t)``,
+    ``r_p = (n cos i - cos t) / (n cos i + cos t)`` and
+    ``cos t = (1 - sin^2 i / n^2)^(1/2)`` (Born and Wolf, Principles of Optics, sec. 1.5).
+    At normal incidence ``R = |(n - 1) / (n + 1)|^2``.
     """
     c = np.asarray(cos_incidence, dtype=np.float64)
     n = np.asarray(refractive_index)
