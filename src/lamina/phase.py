@@ -328,8 +328,9 @@ def rayleigh_matrix(
     delta = (1.0 - rho) / (1.0 + 0.5 * rho)
     delta_prime = (1.0 - 2.0 * rho) / (1.0 - rho)
     coefficients = np.zeros(rho.shape + (n_moments, 6))
-    coefficients[..., 0, 0] = 1.0
-    coefficients[..., 2, 0] = 0.1 * delta
+    # 0.1 Delta is rayleigh()'s chi_2, 0.1 (1 - gamma) / (1 + 2 gamma), in other words; take
+    # that one, so that alpha1 and the scalar moments agree to the last bit
+    coefficients[..., 0] = rayleigh(rho, n_moments)
     coefficients[..., 2, 1] = 0.6 * delta
     coefficients[..., 1, 3] = 0.5 * delta * delta_prime
     coefficients[..., 2, 4] = 0.1 * np.sqrt(6.0) * delta
