@@ -43,6 +43,8 @@ I. The doubling method, J. Atmos. Sci. 28, 120-125.
 Hansen, J. E. and Travis, L. D. (1974), Space Sci. Rev. 16, 527-610.
 Hovenier, J. W., van der Mee, C. and Domke, H. (2004), Transfer of Polarized Light in
 Planetary Atmospheres, Kluwer.
+
+Section and equation numbers of the references are cited from memory.
 """
 
 from __future__ import annotations

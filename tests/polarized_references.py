@@ -32,6 +32,8 @@ Planetary Atmospheres, Kluwer: the phase matrix Z = L(pi - sigma2) F(T) L(-sigma
 rotation matrices L of section 2.3.
 Varshalovich, D. A., Moskalev, A. N. and Khersonskii, V. K. (1988), Quantum Theory of Angular
 Momentum, World Scientific, section 4.3 (Wigner d-functions through Jacobi polynomials).
+
+Section and equation numbers of the references are cited from memory.
 """
 
 from __future__ import annotations

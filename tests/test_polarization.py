@@ -1,4 +1,7 @@
-"""Tests of lamina.polarization and lamina.phase.rayleigh_matrix against outside sources."""
+"""Tests of lamina.polarization and lamina.phase.rayleigh_matrix against outside sources.
+
+Section and equation numbers of the references are cited from memory.
+"""
 
 from __future__ import annotations
 

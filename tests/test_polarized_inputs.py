@@ -4,6 +4,7 @@ solve that the matrix leaves unchanged.
 Outside sources: the Rayleigh matrix of Hansen and Travis (1974) (lamina.phase.rayleigh_matrix
 is tested against it in test_polarization.py), the bound |F_ij| <= F11 of Hovenier, van der
 Mee and Domke (2004, section 3.2), and the scalar moments of Henyey and Greenstein (1941).
+Section and equation numbers of the references are cited from memory.
 """
 
 from __future__ import annotations

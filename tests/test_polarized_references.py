@@ -4,6 +4,7 @@ tests/polarized_doubling.py), which the vector solver is to be tested against.
 Outside sources named at each check: Chandrasekhar (1950), Hovenier (1969), Hovenier, van der
 Mee and Domke (2004), Hansen and Travis (1974), and the scalar adding-doubling of
 lamina.validation.references (itself tested against Chandrasekhar's H-functions).
+Section and equation numbers of the references are cited from memory.
 """
 
 from __future__ import annotations

@@ -69,13 +69,14 @@ referred to the scattering plane,
     F11 = F22 = (|S1|^2 + |S2|^2) / 2,   F12 = (|S2|^2 - |S1|^2) / 2,
     F33 = F44 = Re(S1 S2*),              F34 = Im(S2 S1*),
 
-(Bohren and Huffman's S11, S12, S33, S34, with their exp(-i omega t) time dependence and
-m = n + i k), all divided by the same factor as F11, which then averages to 1 over the
+(Bohren and Huffman's S11, S12, S33, S34, with their exp(-i omega t) time dependence and m
+= n + i k), all divided by the same factor as F11, which then averages to 1 over the
 sphere. So F12 < 0 where the scattered light is polarized perpendicular to the scattering
 plane (-sin^2 T / (1 + cos^2 T) times F11 for small spheres, as Rayleigh's matrix). The
-sign of F34 (and so of V) is that of this time dependence: a convention with exp(+i omega t)
-flips it. Each element is a polynomial in mu of degree at most 2 N, as the phase function
-is, and the same Gauss rule projects it exactly onto the generalized spherical functions
+sign of F34 (and so of V) is that of this time dependence: a convention with exp(+i omega
+t) flips it (equation and section numbers here from memory). Each element is a polynomial
+in mu of degree at most 2 N, as the phase function is, and the same Gauss rule projects it
+exactly onto the generalized spherical functions
 (:func:`lamina.polarization.project_on_nodes`).
 
 References

@@ -286,7 +286,7 @@ def rayleigh_matrix(
     """Expansion coefficients of the Rayleigh scattering matrix, with depolarization.
 
     With Delta = (1 - rho) / (1 + rho / 2) and Delta' = (1 - 2 rho) / (1 - rho), the Rayleigh
-    matrix (Hansen and Travis 1974, eqs. 2.15-2.16) is, with x = cos T,
+    matrix (Hansen and Travis 1974, eqs. 2.15-2.16, numbers from memory) is, with x = cos T,
     F11 = 3/4 Delta (1 + x^2) + 1 - Delta, F12 = -3/4 Delta (1 - x^2),
     F22 = 3/4 Delta (1 + x^2), F33 = 3/2 Delta x, F44 = 3/2 Delta Delta' x, F34 = 0.
     Its coefficients in generalized spherical functions, in lamina's normalisation (the

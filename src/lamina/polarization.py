@@ -54,6 +54,8 @@ Gelfand, I. M. and Shapiro, Z. Ya. (1956), Representations of the group of rotat
 3-dimensional space and their applications, Amer. Math. Soc. Transl. 2, 207-316.
 Hovenier, J. W., van der Mee, C. and Domke, H. (2004), Transfer of Polarized Light in
 Planetary Atmospheres: Basic Concepts and Practical Methods, Kluwer (Springer).
+
+Section and equation numbers of the references are cited from memory.
 """
 
 from __future__ import annotations
@@ -83,6 +85,7 @@ __all__ = [
     "generalized_spherical_functions",
     "matrix_from_expansion",
     "polarized_excess",
+    "project_on_nodes",
 ]
 
 #: Order of the expansion coefficients on the ``element`` axis.
