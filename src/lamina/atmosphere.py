@@ -417,7 +417,7 @@ def make_atmosphere(
         of per-layer (moment, element) arrays may differ in length (zeros pad them) and give
         None for a layer that scatters without polarizing (alpha1 from ``phase_moments``,
         the other elements zero). A matrix with an element larger than F11 somewhere
-        (|F12| > F11, ...) gives a :class:`lamina.LaminaWarning` naming the layer and the
+        (``|F12| > F11``, ...) gives a :class:`lamina.LaminaWarning` naming the layer and the
         scattering angle. The scalar solver uses alpha1 (= ``phase_moments``) only.
 
     Returns

@@ -64,7 +64,7 @@ Scattering matrix
 -----------------
 With ``scattering_matrix=True`` the size-averaged scattering matrix is projected too. For
 a sphere (Bohren and Huffman 1983, eq. 3.16 and section 4.4.4), with Stokes parameters
-referred to the scattering plane,
+referred to the scattering plane::
 
     F11 = F22 = (|S1|^2 + |S2|^2) / 2,   F12 = (|S2|^2 - |S1|^2) / 2,
     F33 = F44 = Re(S1 S2*),              F34 = Im(S2 S1*),

@@ -2,7 +2,7 @@
 
 The scattering matrix of a macroscopically isotropic, mirror-symmetric medium, in the
 Stokes parameters (I, Q, U, V) referred to the scattering plane, has six independent
-elements, functions of the cosine x of the scattering angle T:
+elements, functions of the cosine x of the scattering angle T::
 
     F = [[F11, F12,   0,   0],
          [F12, F22,   0,   0],
@@ -11,7 +11,7 @@ elements, functions of the cosine x of the scattering angle T:
 
 lamina stores it as the expansion coefficients of de Rooij and van der Stap (1984) and
 Hovenier, van der Mee and Domke (2004, ch. 2), on an ``element`` axis in the order
-:data:`ELEMENTS` = ("alpha1", "alpha2", "alpha3", "alpha4", "beta1", "beta2"):
+:data:`ELEMENTS` = ("alpha1", "alpha2", "alpha3", "alpha4", "beta1", "beta2")::
 
     F11       = sum_l (2l+1) alpha1_l P^l_00(x),
     F22 + F33 = sum_l (2l+1) (alpha2_l + alpha3_l) P^l_22(x),
@@ -29,13 +29,13 @@ Generalized spherical functions
 -------------------------------
 P^l_mn(x) (Gelfand and Shapiro 1956, in the form of Hovenier et al. 2004, ch. 2) are
 computed by the three-term recurrence in l (de Rooij and van der Stap 1984; Hovenier et
-al. 2004)
+al. 2004)::
 
     l sqrt((l+1)^2 - m^2) sqrt((l+1)^2 - n^2) P^(l+1)_mn
         = (2l+1) (l (l+1) x - m n) P^l_mn - (l+1) sqrt(l^2 - m^2) sqrt(l^2 - n^2) P^(l-1)_mn,
 
-started from P^(l0-1)_mn = 0 and P^l0_mn = c_mn (1 - x)^(|m-n|/2) (1 + x)^(|m+n|/2) at
-l0 = max(|m|, |n|), with c_mn from the Rodrigues-type formula
+started from P^(l0-1)_mn = 0 and P^l0_mn = c_mn ``(1 - x)^(|m-n|/2) (1 + x)^(|m+n|/2)`` at
+l0 = ``max(|m|, |n|)``, with c_mn from the Rodrigues-type formula::
 
     P^l_mn(x) = A (1-x)^(-(n-m)/2) (1+x)^(-(n+m)/2) d^(l-n)/dx^(l-n) [(1-x)^(l-m) (1+x)^(l+m)],
     A = (-1)^(l-m) i^(n-m) / (2^l (l-m)!) sqrt((l-m)! (l+n)! / ((l+m)! (l-n)!)).
@@ -43,7 +43,7 @@ l0 = max(|m|, |n|), with c_mn from the Rodrigues-type formula
 For m - n even (all that the expansion needs) the functions are real; P^l_00 = P_l (the
 Legendre polynomials), P^l_02 = -sqrt((l-2)!/(l+2)!) P^2_l (associated Legendre function),
 P^2_22 = (1 + x)^2 / 4, P^2_2,-2 = (1 - x)^2 / 4, and they are orthogonal,
-int_-1^1 P^l_mn P^k_mn dx = 2 / (2l+1) delta_lk. |P^l_mn| <= 1 on [-1, 1], so the upward
+``int_-1^1 P^l_mn P^k_mn dx = 2 / (2l+1) delta_lk``. ``|P^l_mn| <= 1`` on [-1, 1], so the upward
 recurrence is stable there.
 
 References
@@ -138,7 +138,7 @@ def generalized_spherical_functions(
     Returns
     -------
     numpy.ndarray
-        Shape ``np.shape(cosines) + (n_moments,)``; zero for l < max(|m|, |n|).
+        Shape ``np.shape(cosines) + (n_moments,)``; zero for l < ``max(|m|, |n|)``.
 
     Raises
     ------
@@ -312,7 +312,7 @@ def _interpolated(
 
     "linear" interpolates each element linearly in angle. "log" interpolates F11 linearly
     in log(F11) and the other elements as ratios F_ij / F11 linearly, which follows a
-    forward peak and keeps |F_ij| <= F11 wherever the table has it; intervals with F11 = 0
+    forward peak and keeps ``|F_ij| <= F11`` wherever the table has it; intervals with F11 = 0
     at an end fall back to linear.
     """
 
@@ -469,10 +469,10 @@ def polarized_excess(
 ) -> tuple[tuple[int, ...], str, float, float, float] | None:
     """The first matrix whose polarized elements exceed F11 somewhere, or None.
 
-    Every element of a physical scattering matrix satisfies |F_ij| <= F11 (Hovenier, van
+    Every element of a physical scattering matrix satisfies ``|F_ij| <= F11`` (Hovenier, van
     der Mee and Domke 2004, section 3.2). The matrices (..., moment, element) are evaluated
     every 0.25 degrees; an element counts as exceeding F11 where
-    |F_ij| > F11 + tolerance * max(F11).
+    ``|F_ij| > F11 + tolerance * max(F11)``.
 
     Returns
     -------
