@@ -129,3 +129,23 @@ def test_check_atmosphere_sees_an_edited_matrix():
     atm["phase_moments"][0, 2] = 0.2
     with pytest.raises(ValueError, match="phase_moments must equal the alpha1"):
         lamina.check_atmosphere(atm)
+
+
+def test_mie_matrices_per_wavelength_go_in_without_a_warning():
+    # a Mie matrix cut at 24 moments crosses F11 only by its truncation error (F22 = F11 and
+    # |F44| = F11 at backscatter for spheres; Bohren and Huffman 1983), below the warning's
+    # 1e-3 of F11's maximum; it goes in as a (wavelength, moment, element) DataArray
+    optics = lamina.mie.lognormal_optics([0.44, 0.55, 0.87], 1.45 + 0.001j, 0.1, 1.5,
+                                         n_moments=24, scattering_matrix=True)
+    tau = xr.DataArray(np.tile([0.1, 0.3], (3, 1)), dims=("wavelength", "layer"),
+                       coords={"wavelength": optics.wavelength.values})
+    rayleigh = xr.DataArray(phase.rayleigh_matrix(0.03, 24), dims=("moment", "element"))
+    aerosol = optics.scattering_matrix_moments.drop_vars(["moment", "element"])
+    matrix = xr.concat([rayleigh.expand_dims(wavelength=optics.wavelength.values), aerosol],
+                       dim="layer")
+    atm = lamina.make_atmosphere(tau, 1.0, scattering_matrix_moments=matrix)
+    assert atm.scattering_matrix_moments.dims == ("wavelength", "layer", "moment", "element")
+    # phase_moments are the matrix's alpha1, which equals mie's phase_moments to round-off
+    np.testing.assert_allclose(atm.phase_moments.values[:, 1], optics.phase_moments.values,
+                               rtol=0, atol=1e-13)
+    np.testing.assert_array_equal(atm.phase_moments.values[:, 0, :3], [phase.rayleigh(0.03)] * 3)
