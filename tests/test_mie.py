@@ -239,3 +239,98 @@ def test_vectorised_series_match_miepython_one_sphere_at_a_time_on_a_broad_distr
         np.testing.assert_allclose(here.asymmetry_parameter,
                                    weights @ (q_sca * g) / (weights @ q_sca), rtol=1e-9)
         np.testing.assert_allclose(here.phase_moments, moments, rtol=0, atol=1e-9)
+
+
+# --------------------------------------------------------------------------------------
+# scattering matrices (polarization)
+# --------------------------------------------------------------------------------------
+
+
+def _sphere_matrix_coefficients(m, x, n_moments):
+    """Coefficients of one sphere's scattering matrix from miepython's amplitudes S1, S2.
+
+    Bohren and Huffman (1983) eq. 3.16: F11 = (|S1|^2 + |S2|^2)/2, F12 = (|S2|^2 - |S1|^2)/2,
+    F33 = Re(S1 S2*), F34 = Im(S2 S1*); F22 = F11, F44 = F33 for spheres. miepython works
+    with m = n - i k and exp(+i omega t): its S1, S2 are the complex conjugates of Bohren and
+    Huffman's (checked against the series of their section 4.4 by hand). Projected with
+    numpy's Gauss-Legendre rule and the tests' scipy-Jacobi generalized spherical functions.
+    """
+    from polarized_references import generalized_spherical
+
+    cosines, weights = np.polynomial.legendre.leggauss(200)
+    s1, s2 = np.conj(miepython.S1_S2(np.conj(m), x, cosines, norm="wiscombe"))
+    f11 = 0.5 * (np.abs(s1) ** 2 + np.abs(s2) ** 2)
+    f12 = 0.5 * (np.abs(s2) ** 2 - np.abs(s1) ** 2)
+    f33 = (s1 * np.conj(s2)).real
+    f34 = (s2 * np.conj(s1)).imag
+    table = np.zeros((n_moments, 6))
+    for degree in range(n_moments):
+        p00 = generalized_spherical(degree, 0, 0, cosines)
+        p02 = generalized_spherical(degree, 0, 2, cosines)
+        plus = weights @ ((f11 + f33) * generalized_spherical(degree, 2, 2, cosines))
+        minus = weights @ ((f11 - f33) * generalized_spherical(degree, 2, -2, cosines))
+        table[degree] = [weights @ (f11 * p00), 0.5 * (plus + minus), 0.5 * (plus - minus),
+                         weights @ (f33 * p00), weights @ (f12 * p02), weights @ (f34 * p02)]
+    return table / table[0, 0]
+
+
+def test_scattering_matrix_of_a_narrow_distribution_matches_miepython_amplitudes():
+    m, lam, radius = 1.45 + 0.01j, 0.7, 0.8
+    x = 2 * np.pi * radius / lam
+    optics = lognormal_optics(lam, m, radius, 1.00001, n_moments=24, scattering_matrix=True)
+    expected = _sphere_matrix_coefficients(m, x, 24)
+    np.testing.assert_allclose(optics.scattering_matrix_moments[0], expected, rtol=1e-6,
+                               atol=1e-9)
+    assert optics.scattering_matrix_moments.dims == ("wavelength", "moment", "element")
+    assert list(optics.element.values) == ["alpha1", "alpha2", "alpha3", "alpha4", "beta1",
+                                           "beta2"]
+
+
+def test_alpha1_is_the_phase_moments():
+    # the (1,1) element of the matrix is the scalar phase function (Hovenier et al. 2004)
+    optics = lognormal_optics([0.55, 1.6], [1.5 + 0.001j, 1.4 + 0.1j], 0.4, 1.7, n_moments=48,
+                              scattering_matrix=True)
+    np.testing.assert_allclose(optics.scattering_matrix_moments[..., 0], optics.phase_moments,
+                               rtol=0, atol=1e-10)
+    plain = lognormal_optics([0.55, 1.6], [1.5 + 0.001j, 1.4 + 0.1j], 0.4, 1.7, n_moments=48)
+    assert "scattering_matrix_moments" not in plain
+    np.testing.assert_array_equal(plain.phase_moments, optics.phase_moments)
+
+
+def test_small_spheres_scatter_as_rayleigh():
+    # x = 0.01: F12/F11 = -sin^2 T / (1 + cos^2 T) (Rayleigh; Bohren and Huffman 1983, section
+    # 5.2), errors of order x^2; the coefficients tend to Hansen and Travis's (1974) rho = 0
+    from lamina import polarization
+
+    lam = 0.55
+    optics = lognormal_optics(lam, 1.5 + 0.01j, 0.01 * lam / (2 * np.pi), 1.0001, n_moments=8,
+                              scattering_matrix=True)
+    coefficients = optics.scattering_matrix_moments.values[0]
+    angle = np.linspace(0.0, 180.0, 181)
+    matrix = polarization.matrix_from_expansion(coefficients, angle)
+    x = np.cos(np.deg2rad(angle))
+    np.testing.assert_allclose(matrix.f12 / matrix.f11, -(1 - x**2) / (1 + x**2), rtol=0,
+                               atol=1e-4)
+    np.testing.assert_allclose(matrix.f33 / matrix.f11, 2 * x / (1 + x**2), rtol=0, atol=1e-4)
+    expected = np.zeros((8, 6))
+    expected[:3] = phase.rayleigh_matrix()
+    np.testing.assert_allclose(coefficients, expected, rtol=0, atol=1e-4)
+
+
+def test_matrix_of_a_broad_distribution_is_physical():
+    # |F_ij| <= F11 for every element (Hovenier et al. 2004, section 3.2), F22 = F11 and
+    # F33 = F44 for spheres (Bohren and Huffman 1983, section 4.4.4). 128 moments leave a
+    # tail of order 1e-9 here; at backscatter F33 = -F11 exactly for spheres (S1 = -S2), so
+    # the check allows 1e-6 of F11's maximum
+    from lamina import polarization
+
+    optics = lognormal_optics([0.55, 1.0], [1.45 + 0.01j, 1.33], 0.3, 1.6, n_moments=128,
+                              scattering_matrix=True)
+    coefficients = optics.scattering_matrix_moments.values
+    assert polarization.polarized_excess(coefficients, tolerance=1e-6) is None
+    matrix = polarization.matrix_from_expansion(coefficients, np.linspace(0.0, 180.0, 721))
+    np.testing.assert_allclose(matrix.f22, matrix.f11, rtol=0, atol=1e-7 * matrix.f11.max())
+    np.testing.assert_allclose(matrix.f44, matrix.f33, rtol=0, atol=1e-7 * matrix.f11.max())
+    assert np.all(matrix.f11 >= np.abs(matrix.f12))
+    with pytest.raises(TypeError, match="scattering_matrix must be True or False"):
+        lognormal_optics(0.55, 1.5, 0.3, 1.6, scattering_matrix="yes")

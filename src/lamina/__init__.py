@@ -2,9 +2,9 @@
 
 ``import lamina`` makes every public module available as an attribute: ``lamina.phase``,
 ``lamina.planck``, ``lamina.io``, ``lamina.mie``, ``lamina.scenario``, ``lamina.surface``,
-``lamina.planet``, ``lamina.spherical``, ``lamina.progress`` and ``lamina.quadrature`` are
-imported with the package; ``lamina.plotting`` (which loads matplotlib) and
-``lamina.validation`` are imported on first use.
+``lamina.planet``, ``lamina.polarization``, ``lamina.spherical``, ``lamina.progress`` and
+``lamina.quadrature`` are imported with the package; ``lamina.plotting`` (which loads
+matplotlib) and ``lamina.validation`` are imported on first use.
 
 >>> import lamina
 >>> atm = lamina.make_atmosphere(optical_depth=[0.1, 1.0], single_scattering_albedo=[1.0, 0.9],
@@ -22,6 +22,7 @@ from lamina import (
     phase,
     planck,
     planet,
+    polarization,
     progress,
     quadrature,
     scenario,
@@ -49,6 +50,7 @@ __all__ = [
     "planck",
     "planet",
     "plotting",
+    "polarization",
     "progress",
     "quadrature",
     "scenario",

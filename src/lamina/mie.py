@@ -60,6 +60,25 @@ mu = cos T of degree 2 N, so the Gauss-Legendre rule in mu with
 N_max + ceil(n_moments / 2) + 1 nodes (N_max the longest series at that wavelength) projects
 it onto P_0 .. P_(n_moments - 1) exactly, up to round-off.
 
+Scattering matrix
+-----------------
+With ``scattering_matrix=True`` the size-averaged scattering matrix is projected too. For
+a sphere (Bohren and Huffman 1983, eq. 3.16 and section 4.4.4), with Stokes parameters
+referred to the scattering plane::
+
+    F11 = F22 = (|S1|^2 + |S2|^2) / 2,   F12 = (|S2|^2 - |S1|^2) / 2,
+    F33 = F44 = Re(S1 S2*),              F34 = Im(S2 S1*),
+
+(Bohren and Huffman's S11, S12, S33, S34, with their exp(-i omega t) time dependence and m
+= n + i k), all divided by the same factor as F11, which then averages to 1 over the
+sphere. So F12 < 0 where the scattered light is polarized perpendicular to the scattering
+plane (-sin^2 T / (1 + cos^2 T) times F11 for small spheres, as Rayleigh's matrix). The
+sign of F34 (and so of V) is that of this time dependence: a convention with exp(+i omega
+t) flips it (equation and section numbers here from memory). Each element is a polynomial
+in mu of degree at most 2 N, as the phase function is, and the same Gauss rule projects it
+exactly onto the generalized spherical functions
+(:func:`lamina.polarization.project_on_nodes`).
+
 References
 ----------
 Bohren, C. F. and Huffman, D. R. (1983), Absorption and Scattering of Light by Small
@@ -78,7 +97,8 @@ from numpy.typing import ArrayLike
 from scipy import special
 
 from lamina._checks import number_text
-from lamina.phase import _as_real_array, _check_count, _index_text
+from lamina.phase import SCATTERING_MATRIX_ELEMENTS, _as_real_array, _check_count, _index_text
+from lamina.polarization import ScatteringMatrix, project_on_nodes
 
 __all__ = ["lognormal_optics"]
 
@@ -149,6 +169,13 @@ def _angular_functions(cosines: np.ndarray, n_terms: int) -> tuple[np.ndarray, n
     return angular_pi[1:], angular_tau
 
 
+#: How the matrix elements follow from the amplitude functions (module docstring).
+SIGN_CONVENTION = (
+    "F11 = (|S1|^2 + |S2|^2)/2, F12 = (|S2|^2 - |S1|^2)/2, F33 = Re(S1 S2*), "
+    "F34 = Im(S2 S1*) (Bohren and Huffman 1983, eq. 3.16, exp(-i omega t) time "
+    "dependence), normalised so that F11 averages to 1"
+)
+
 #: Spheres per block of the vectorised series (bounds the memory of the padded arrays).
 _SPHERES_PER_BLOCK = 256
 
@@ -218,13 +245,18 @@ def _mie_coefficients(
 
 
 def _wavelength_averages(
-    index: complex, size_parameter: np.ndarray, area_weights: np.ndarray, n_moments: int
-) -> tuple[float, float, float, np.ndarray, int]:
+    index: complex,
+    size_parameter: np.ndarray,
+    area_weights: np.ndarray,
+    n_moments: int,
+    matrix: bool = False,
+) -> tuple[float, float, float, np.ndarray, int, np.ndarray | None]:
     """Size averages of Q_ext, Q_sca, Q_sca g and the phase moments at one wavelength.
 
     ``size_parameter`` holds the size nodes in increasing order; they are processed in
     blocks of neighbours, each block padded only to its own longest series. Returns the
-    three averages, the moments chi_0 .. chi_(n_moments - 1) and the number of angle nodes.
+    three averages, the moments chi_0 .. chi_(n_moments - 1), the number of angle nodes and,
+    if ``matrix``, the scattering-matrix coefficients (moment, element) (else None).
     """
     n_terms = int(_series_length(size_parameter).max())
     # Gauss-Legendre rule in mu exact for the projection (see module docstring).
@@ -239,6 +271,8 @@ def _wavelength_averages(
     plus, minus = scale * (angular_pi + angular_tau), scale * (angular_pi - angular_tau)
     sums = np.zeros(3)
     phase_function = np.zeros(n_angles)
+    # F12, F33, F34 of the size average (section "Scattering matrix" of the module docstring)
+    polarized = np.zeros((3, n_angles))
     for start in range(0, size_parameter.size, _SPHERES_PER_BLOCK):
         x = size_parameter[start : start + _SPHERES_PER_BLOCK]
         weights = area_weights[start : start + _SPHERES_PER_BLOCK]
@@ -254,13 +288,27 @@ def _wavelength_averages(
             + ((2.0 * degree + 1.0) / (degree * (degree + 1.0)) * (a_n * np.conj(b_n)).real).sum(1)
         )
         sums += np.stack([q_ext, q_sca, q_sca_g]) @ weights
-        intensity = np.zeros((x.size, n_angles))
+        amplitudes = []  # S1 + S2 and S1 - S2, each as (real, imaginary), (sphere, angle)
         for pair, functions in ((a_n + b_n, plus), (a_n - b_n, minus)):
             amplitude = np.concatenate([pair.real, pair.imag]) @ functions[:terms]
-            intensity += amplitude[: x.size] ** 2 + amplitude[x.size :] ** 2
+            amplitudes.append((amplitude[: x.size], amplitude[x.size :]))
+        (sum_re, sum_im), (diff_re, diff_im) = amplitudes
+        intensity = sum_re**2 + sum_im**2 + diff_re**2 + diff_im**2
         # Unnormalised amplitudes: int_{-1}^{1} intensity dmu = x^2 Q_sca / 2, so dividing
         # by x^2 and weighting by the area weights gives the cross-section weighted mean.
-        phase_function += (0.25 * weights / x**2) @ intensity
+        size_weights = 0.25 * weights / x**2
+        phase_function += size_weights @ intensity
+        if matrix:
+            # with A = S1 + S2, B = S1 - S2: |S2|^2 - |S1|^2 = -Re(A B*),
+            # Re(S1 S2*) = (|A|^2 - |B|^2) / 4 and Im(S2 S1*) = Im(A B*) / 2
+            cross_re = sum_re * diff_re + sum_im * diff_im
+            cross_im = sum_im * diff_re - sum_re * diff_im
+            # (the factor 0.25 of size_weights maps |A|^2 + |B|^2 = 2 (|S1|^2 + |S2|^2) to F11)
+            polarized += size_weights @ np.stack([
+                -2.0 * cross_re,
+                sum_re**2 + sum_im**2 - diff_re**2 - diff_im**2,
+                2.0 * cross_im,
+            ])
     weighted = phase_function * angle_weights
     legendre = np.empty((n_angles, n_moments))
     legendre[:, 0] = 1.0
@@ -272,7 +320,14 @@ def _wavelength_averages(
         ) / (degree + 1)
     moments = (weighted @ legendre) / weighted.sum()
     moments[0] = 1.0
-    return sums[0], sums[1], sums[2], moments, n_angles
+    coefficients = None
+    if matrix:
+        f12, f33, f34 = polarized
+        # spheres: F22 = F11 and F44 = F33 (Bohren and Huffman 1983, section 4.4.4)
+        elements = ScatteringMatrix(phase_function, f12, phase_function, f33, f34, f33)
+        coefficients = project_on_nodes(elements, cosines, angle_weights, n_moments)
+        coefficients /= coefficients[0, 0]
+    return sums[0], sums[1], sums[2], moments, n_angles, coefficients
 
 
 def _validate_refractive_index(refractive_index: ArrayLike, shape: tuple[int, ...]) -> np.ndarray:
@@ -313,6 +368,7 @@ def lognormal_optics(
     *,
     radius_panels: int | None = None,
     width_cutoff: float = DEFAULT_WIDTH_CUTOFF,
+    scattering_matrix: bool = False,
 ) -> xr.Dataset:
     """Mie optical properties of a log-normal distribution of homogeneous spheres.
 
@@ -337,6 +393,12 @@ def lognormal_optics(
     width_cutoff : float, optional
         The size integral covers +-``width_cutoff`` log-widths of the area-weighted
         distribution (default 6).
+    scattering_matrix : bool, optional
+        If True, also return ``scattering_matrix_moments`` (wavelength, moment, element):
+        the expansion coefficients of the size-averaged scattering matrix in generalized
+        spherical functions (see :mod:`lamina.polarization`), ready for
+        ``lamina.make_atmosphere(scattering_matrix_moments=...)``. Their alpha1 is
+        ``phase_moments``.
 
     Returns
     -------
@@ -395,6 +457,8 @@ def lognormal_optics(
         raise ValueError(f"width_cutoff must be a number > 0; got {cutoff}")
     if radius_panels is not None:
         radius_panels = _check_count("radius_panels", radius_panels, 1)
+    if not isinstance(scattering_matrix, bool | np.bool_):
+        raise TypeError(f"scattering_matrix must be True or False; got {scattering_matrix!r}")
 
     log_width = float(np.log(sigma))
     # Radii of the area-weighted log-normal: median r_g exp(2 s^2), same log-width.
@@ -409,7 +473,7 @@ def lognormal_optics(
     # One vectorised pass over all size nodes per wavelength (the series recurrences run
     # over the order n, the products over spheres and angles as matrix products).
     averages = [
-        _wavelength_averages(complex(m), x, area_weights, n_moments)
+        _wavelength_averages(complex(m), x, area_weights, n_moments, bool(scattering_matrix))
         for m, x in zip(index, size_parameter, strict=True)
     ]
     extinction_efficiency = np.array([value[0] for value in averages])
@@ -476,6 +540,17 @@ def lognormal_optics(
             "imaginary part k of refractive index (m = n + i k, k >= 0 absorbing)",
         ),
     }
+    if scattering_matrix:
+        coords["element"] = variable(("element",), list(SCATTERING_MATRIX_ELEMENTS), "1",
+                                     "expansion coefficient of the scattering matrix")
+        data["scattering_matrix_moments"] = variable(
+            ("wavelength", "moment", "element"),
+            np.stack([value[5] for value in averages]),
+            "1",
+            "coefficients of the scattering matrix in generalized spherical functions, "
+            "F11 = sum (2l+1) alpha1_l P_l, F12 = sum (2l+1) beta1_l P^l_02, ...",
+            stokes_convention=SIGN_CONVENTION,
+        )
     attrs = {
         "size_distribution": "log-normal number distribution",
         "median_radius": float(radius),

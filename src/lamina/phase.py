@@ -15,6 +15,9 @@ Methods
 - Rayleigh scattering with depolarization factor rho: gamma = rho / (2 - rho),
   P = 3 / (4 (1 + 2 gamma)) [(1 + 3 gamma) + (1 - gamma) cos^2 T], hence
   chi_2 = (1 - gamma) / (10 (1 + 2 gamma)) (Hansen and Travis 1974).
+- The Rayleigh scattering matrix with depolarization as expansion coefficients in
+  generalized spherical functions (Hansen and Travis 1974; de Rooij and van der Stap 1984);
+  see :mod:`lamina.polarization` for the expansion.
 - Projection of tabulated phase functions by composite Gauss-Legendre quadrature.
 - Delta-M scaling of forward-peaked phase functions (Wiscombe 1977).
 
@@ -24,6 +27,8 @@ Henyey, L. G. and Greenstein, J. L. (1941), Diffuse radiation in the galaxy,
 Astrophys. J. 93, 70-83.
 Hansen, J. E. and Travis, L. D. (1974), Light scattering in planetary atmospheres,
 Space Sci. Rev. 16, 527-610.
+de Rooij, W. A. and van der Stap, C. C. A. H. (1984), Expansion of Mie scattering matrices
+in generalized spherical functions, Astron. Astrophys. 131, 237-248.
 Wiscombe, W. J. (1977), The delta-M method: rapid yet accurate radiative flux
 calculations for strongly asymmetric phase functions, J. Atmos. Sci. 34, 1408-1422.
 """
@@ -42,8 +47,14 @@ __all__ = [
     "evaluate",
     "from_tabulated",
     "henyey_greenstein",
+    "SCATTERING_MATRIX_ELEMENTS",
     "rayleigh",
+    "rayleigh_matrix",
 ]
+
+#: Order of the scattering-matrix expansion coefficients on the ``element`` axis (de Rooij
+#: and van der Stap 1984; Hovenier, van der Mee and Domke 2004).
+SCATTERING_MATRIX_ELEMENTS = ("alpha1", "alpha2", "alpha3", "alpha4", "beta1", "beta2")
 
 #: Default relative tolerance on the normalisation of a tabulated phase function.
 TABULATED_NORMALIZATION_TOLERANCE = 1e-2
@@ -267,6 +278,63 @@ def rayleigh(depolarization: ArrayLike = 0.0, n_moments: int = 3) -> NDArray[np.
     moments[..., 0] = 1.0
     moments[..., 2] = 0.1 * (1.0 - gamma) / (1.0 + 2.0 * gamma)
     return moments
+
+
+def rayleigh_matrix(
+    depolarization: ArrayLike = 0.0, n_moments: int = 3
+) -> NDArray[np.float64]:
+    """Expansion coefficients of the Rayleigh scattering matrix, with depolarization.
+
+    With Delta = (1 - rho) / (1 + rho / 2) and Delta' = (1 - 2 rho) / (1 - rho), the Rayleigh
+    matrix (Hansen and Travis 1974, eqs. 2.15-2.16, numbers from memory) is, with x = cos T,
+    F11 = 3/4 Delta (1 + x^2) + 1 - Delta, F12 = -3/4 Delta (1 - x^2),
+    F22 = 3/4 Delta (1 + x^2), F33 = 3/2 Delta x, F44 = 3/2 Delta Delta' x, F34 = 0.
+    Its coefficients in generalized spherical functions, in lamina's normalisation (the
+    published ones divided by 2l + 1, so that alpha1 equals :func:`rayleigh`), are
+    alpha1 = [1, 0, Delta/10], alpha2 = [0, 0, 3 Delta/5], alpha4 = [0, Delta Delta'/2, 0],
+    beta1 = [0, 0, sqrt(6) Delta/10], alpha3 = beta2 = 0 (de Rooij and van der Stap 1984;
+    Hovenier, van der Mee and Domke 2004, table of the Rayleigh coefficients).
+
+    Parameters
+    ----------
+    depolarization : array_like, optional
+        Depolarization factor rho in [0, 1) (about 0.028 for dry air). Any shape.
+    n_moments : int, optional
+        Number of moments (at least 3); moments beyond l = 2 are zero.
+
+    Returns
+    -------
+    numpy.ndarray
+        Shape ``np.shape(depolarization) + (n_moments, 6)``: (moment, element), the
+        elements in the order of :data:`SCATTERING_MATRIX_ELEMENTS` ("alpha1", "alpha2",
+        "alpha3", "alpha4", "beta1", "beta2"). :func:`lamina.polarization.matrix_from_expansion`
+        evaluates the matrix.
+
+    References
+    ----------
+    Hansen and Travis (1974), Space Sci. Rev. 16, 527; de Rooij and van der Stap (1984),
+    Astron. Astrophys. 131, 237.
+
+    Examples
+    --------
+    >>> rayleigh_matrix()[2].round(4).tolist()
+    [0.1, 0.6, 0.0, 0.0, 0.2449, 0.0]
+    >>> rayleigh_matrix(0.03, n_moments=8).shape
+    (8, 6)
+    """
+    n_moments = _check_count("n_moments", n_moments, 3)
+    rho = _as_real_array("depolarization", depolarization)
+    _check_interval("depolarization", rho, 0.0, 1.0, closed_low=True, closed_high=False)
+    delta = (1.0 - rho) / (1.0 + 0.5 * rho)
+    delta_prime = (1.0 - 2.0 * rho) / (1.0 - rho)
+    coefficients = np.zeros(rho.shape + (n_moments, 6))
+    # 0.1 Delta is rayleigh()'s chi_2, 0.1 (1 - gamma) / (1 + 2 gamma), in other words; take
+    # that one, so that alpha1 and the scalar moments agree to the last bit
+    coefficients[..., 0] = rayleigh(rho, n_moments)
+    coefficients[..., 2, 1] = 0.6 * delta
+    coefficients[..., 1, 3] = 0.5 * delta * delta_prime
+    coefficients[..., 2, 4] = 0.1 * np.sqrt(6.0) * delta
+    return coefficients
 
 
 # --------------------------------------------------------------------------------------
