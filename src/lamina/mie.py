@@ -359,6 +359,114 @@ def _validate_refractive_index(refractive_index: ArrayLike, shape: tuple[int, ..
     return index
 
 
+def _checked_inputs(n_moments, wavelength, refractive_index, median_radius,
+                    geometric_standard_deviation, width_cutoff, radius_panels,
+                    scattering_matrix):
+    """The arguments of :func:`lognormal_optics`, checked (ValueErrors name them)."""
+    n_moments = _check_count("n_moments", n_moments, 1)
+    wavelengths = _as_real_array("wavelength", wavelength)
+    if wavelengths.ndim > 1:
+        raise ValueError(f"wavelength must be a scalar or 1-D; got shape {wavelengths.shape}")
+    wavelengths = np.atleast_1d(wavelengths)
+    if wavelengths.size == 0:
+        raise ValueError("wavelength must hold at least one value")
+    not_positive = wavelengths <= 0.0
+    if np.any(not_positive):
+        bad_value, where = _index_text(wavelengths, not_positive)
+        raise ValueError(
+            f"wavelength must be > 0 (micrometres); got {number_text(bad_value)}{where}"
+        )
+    index = _validate_refractive_index(refractive_index, wavelengths.shape)
+    radius = _as_real_array("median_radius", median_radius)
+    if radius.ndim != 0 or not radius > 0.0:
+        raise ValueError(f"median_radius must be a number > 0 (micrometres); got {radius}")
+    sigma = _as_real_array("geometric_standard_deviation", geometric_standard_deviation)
+    if sigma.ndim != 0 or not sigma > 1.0:
+        raise ValueError(f"geometric_standard_deviation must be a number > 1; got {sigma}")
+    cutoff = _as_real_array("width_cutoff", width_cutoff)
+    if cutoff.ndim != 0 or not cutoff > 0.0:
+        raise ValueError(f"width_cutoff must be a number > 0; got {cutoff}")
+    if radius_panels is not None:
+        radius_panels = _check_count("radius_panels", radius_panels, 1)
+    if not isinstance(scattering_matrix, bool | np.bool_):
+        raise TypeError(f"scattering_matrix must be True or False; got {scattering_matrix!r}")
+    return n_moments, wavelengths, index, radius, sigma, cutoff, radius_panels
+
+
+def _variable(dims, values, units, long_name, **extra):
+    return xr.Variable(dims, values, {"units": units, "long_name": long_name, **extra})
+
+
+def _optics_variables(wavelengths, n_moments, index, mean_geometric, extinction_efficiency,
+                      scattering_efficiency, albedo, asymmetry, moments, averages,
+                      scattering_matrix):
+    """The coordinates and variables of the optics Dataset, with units and long names."""
+    variable = _variable
+    coords = {
+        "wavelength": variable(("wavelength",), wavelengths, "um", "wavelength in vacuum"),
+        "moment": variable(("moment",), np.arange(n_moments), "1", "Legendre order"),
+    }
+    data = {
+        "extinction_cross_section": variable(
+            ("wavelength",),
+            mean_geometric * extinction_efficiency,
+            "um2",
+            "mean extinction cross-section per particle",
+        ),
+        "scattering_cross_section": variable(
+            ("wavelength",),
+            mean_geometric * scattering_efficiency,
+            "um2",
+            "mean scattering cross-section per particle",
+        ),
+        "extinction_efficiency": variable(
+            ("wavelength",),
+            extinction_efficiency,
+            "1",
+            "extinction efficiency (mean cross-section over mean geometric cross-section)",
+        ),
+        "scattering_efficiency": variable(
+            ("wavelength",),
+            scattering_efficiency,
+            "1",
+            "scattering efficiency (mean cross-section over mean geometric cross-section)",
+        ),
+        "single_scattering_albedo": variable(
+            ("wavelength",), albedo, "1", "single-scattering albedo"
+        ),
+        "asymmetry_parameter": variable(
+            ("wavelength",), asymmetry, "1", "asymmetry parameter (mean cosine of scattering)"
+        ),
+        "phase_moments": variable(
+            ("wavelength", "moment"),
+            moments,
+            "1",
+            "Legendre moments chi_l of the phase function, P = sum (2l+1) chi_l P_l",
+        ),
+        "refractive_index_real": variable(
+            ("wavelength",), index.real.copy(), "1", "real part n of refractive index"
+        ),
+        "refractive_index_imaginary": variable(
+            ("wavelength",),
+            index.imag.copy(),
+            "1",
+            "imaginary part k of refractive index (m = n + i k, k >= 0 absorbing)",
+        ),
+    }
+    if scattering_matrix:
+        coords["element"] = variable(("element",), list(SCATTERING_MATRIX_ELEMENTS), "1",
+                                     "expansion coefficient of the scattering matrix")
+        data["scattering_matrix_moments"] = variable(
+            ("wavelength", "moment", "element"),
+            np.stack([value[5] for value in averages]),
+            "1",
+            "coefficients of the scattering matrix in generalized spherical functions, "
+            "F11 = sum (2l+1) alpha1_l P_l, F12 = sum (2l+1) beta1_l P^l_02, ...",
+            stokes_convention=SIGN_CONVENTION,
+        )
+    return coords, data
+
+
 def lognormal_optics(
     wavelength: ArrayLike,
     refractive_index: ArrayLike,
@@ -432,33 +540,9 @@ def lognormal_optics(
     >>> bool((optics.single_scattering_albedo == 1.0).all())
     True
     """
-    n_moments = _check_count("n_moments", n_moments, 1)
-    wavelengths = _as_real_array("wavelength", wavelength)
-    if wavelengths.ndim > 1:
-        raise ValueError(f"wavelength must be a scalar or 1-D; got shape {wavelengths.shape}")
-    wavelengths = np.atleast_1d(wavelengths)
-    if wavelengths.size == 0:
-        raise ValueError("wavelength must hold at least one value")
-    not_positive = wavelengths <= 0.0
-    if np.any(not_positive):
-        bad_value, where = _index_text(wavelengths, not_positive)
-        raise ValueError(
-            f"wavelength must be > 0 (micrometres); got {number_text(bad_value)}{where}"
-        )
-    index = _validate_refractive_index(refractive_index, wavelengths.shape)
-    radius = _as_real_array("median_radius", median_radius)
-    if radius.ndim != 0 or not radius > 0.0:
-        raise ValueError(f"median_radius must be a number > 0 (micrometres); got {radius}")
-    sigma = _as_real_array("geometric_standard_deviation", geometric_standard_deviation)
-    if sigma.ndim != 0 or not sigma > 1.0:
-        raise ValueError(f"geometric_standard_deviation must be a number > 1; got {sigma}")
-    cutoff = _as_real_array("width_cutoff", width_cutoff)
-    if cutoff.ndim != 0 or not cutoff > 0.0:
-        raise ValueError(f"width_cutoff must be a number > 0; got {cutoff}")
-    if radius_panels is not None:
-        radius_panels = _check_count("radius_panels", radius_panels, 1)
-    if not isinstance(scattering_matrix, bool | np.bool_):
-        raise TypeError(f"scattering_matrix must be True or False; got {scattering_matrix!r}")
+    n_moments, wavelengths, index, radius, sigma, cutoff, radius_panels = _checked_inputs(
+        n_moments, wavelength, refractive_index, median_radius, geometric_standard_deviation,
+        width_cutoff, radius_panels, scattering_matrix)
 
     log_width = float(np.log(sigma))
     # Radii of the area-weighted log-normal: median r_g exp(2 s^2), same log-width.
@@ -486,71 +570,9 @@ def lognormal_optics(
     # and never let it exceed 1.
     albedo = np.where(index.imag == 0.0, 1.0, np.minimum(albedo, 1.0))
 
-    def variable(dims, values, units, long_name, **extra):
-        return xr.Variable(dims, values, {"units": units, "long_name": long_name, **extra})
-
-    coords = {
-        "wavelength": variable(("wavelength",), wavelengths, "um", "wavelength in vacuum"),
-        "moment": variable(("moment",), np.arange(n_moments), "1", "Legendre order"),
-    }
-    data = {
-        "extinction_cross_section": variable(
-            ("wavelength",),
-            mean_geometric * extinction_efficiency,
-            "um2",
-            "mean extinction cross-section per particle",
-        ),
-        "scattering_cross_section": variable(
-            ("wavelength",),
-            mean_geometric * scattering_efficiency,
-            "um2",
-            "mean scattering cross-section per particle",
-        ),
-        "extinction_efficiency": variable(
-            ("wavelength",),
-            extinction_efficiency,
-            "1",
-            "extinction efficiency (mean cross-section over mean geometric cross-section)",
-        ),
-        "scattering_efficiency": variable(
-            ("wavelength",),
-            scattering_efficiency,
-            "1",
-            "scattering efficiency (mean cross-section over mean geometric cross-section)",
-        ),
-        "single_scattering_albedo": variable(
-            ("wavelength",), albedo, "1", "single-scattering albedo"
-        ),
-        "asymmetry_parameter": variable(
-            ("wavelength",), asymmetry, "1", "asymmetry parameter (mean cosine of scattering)"
-        ),
-        "phase_moments": variable(
-            ("wavelength", "moment"),
-            moments,
-            "1",
-            "Legendre moments chi_l of the phase function, P = sum (2l+1) chi_l P_l",
-        ),
-        "refractive_index_real": variable(
-            ("wavelength",), index.real.copy(), "1", "real part n of refractive index"
-        ),
-        "refractive_index_imaginary": variable(
-            ("wavelength",),
-            index.imag.copy(),
-            "1",
-            "imaginary part k of refractive index (m = n + i k, k >= 0 absorbing)",
-        ),
-    }
-    if scattering_matrix:
-        coords["element"] = variable(("element",), list(SCATTERING_MATRIX_ELEMENTS), "1",
-                                     "expansion coefficient of the scattering matrix")
-        data["scattering_matrix_moments"] = variable(
-            ("wavelength", "moment", "element"),
-            np.stack([value[5] for value in averages]),
-            "1",
-            "coefficients of the scattering matrix in generalized spherical functions, "
-            "F11 = sum (2l+1) alpha1_l P_l, F12 = sum (2l+1) beta1_l P^l_02, ...",
-            stokes_convention=SIGN_CONVENTION,
-        )
+    coords, data = _optics_variables(wavelengths, n_moments, index, mean_geometric,
+                                     extinction_efficiency, scattering_efficiency, albedo,
+                                     asymmetry, moments, averages, bool(scattering_matrix))
     attrs = {
         "size_distribution": "log-normal number distribution",
         "median_radius": float(radius),
