@@ -131,6 +131,8 @@ class BlockSettings:
     lazy: bool
     #: True if check_atmosphere has seen the values of the optical properties
     optics_checked: bool
+    #: the bidirectional surface's description (None: the Lambertian surface_albedo)
+    surface: str | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -152,6 +154,9 @@ class Block:
     planck_levels: np.ndarray
     planck_surface: np.ndarray
     top_diffuse_radiance: np.ndarray
+    #: the kernel's arrays of a bidirectional surface by keyword, (column, ...); None for
+    #: the Lambertian surface_albedo
+    surface: dict[str, np.ndarray] | None = None
 
 
 @dataclass(frozen=True, eq=False)
