@@ -180,3 +180,35 @@ def test_bad_surface_input():
     bowl = S.rahman_pinty_verstraete(0.15, 0.5, 0.0)
     with pytest.raises(ValueError, match="sun zenith 88 degrees"):
         lamina.solve(atm, sun_zenith=88.0, surface=bowl)
+
+
+def test_scenario_surface_kinds(tmp_path):
+    # the example scenarios name their surfaces by kind; the surface built from the file is
+    # the one the Python function gives for the same arguments (the same BRDF values)
+    from pathlib import Path
+
+    from lamina.scenario import ScenarioError, load_scenario
+
+    examples = Path(__file__).resolve().parents[1] / "examples"
+    glint = load_scenario(examples / "ocean_glint.toml").solve_kwargs()["surface"]
+    expected = S.cox_munk(6.0, 1.334, True)
+    assert np.allclose(glint.brdf(35.0, [20.0, 35.0], 0.0), expected.brdf(35.0, [20.0, 35.0], 0.0),
+                       rtol=1e-15)
+    land = load_scenario(examples / "vegetated_land.toml")
+    surface = land.solve_kwargs()["surface"]
+    brdf = surface.brdf(40.0, 30.0, 180.0)
+    assert brdf.dims == ("wavelength",)
+    nir = S.ross_li(0.35, 0.20, 0.03).brdf(40.0, 30.0, 180.0)
+    assert np.isclose(float(brdf.isel(wavelength=2)), float(nir), rtol=1e-15)
+    file = tmp_path / "bad.toml"
+    text = ('[atmosphere]\noptical_depth = [0.1]\nsingle_scattering_albedo = 0.9\n'
+            'phase = {kind = "isotropic"}\n[sun]\nzenith = 30.0\n[surface]\n')
+    file.write_text(text + 'kind = "cox_munk"\nalbedo = 0.1\n')
+    with pytest.raises(ScenarioError, match="albedo"):
+        load_scenario(file)
+    file.write_text(text + 'kind = "glossy"\n')
+    with pytest.raises(ScenarioError, match="kind"):
+        load_scenario(file)
+    file.write_text(text + 'kind = "cox_munk"\nwind_speed = -1.0\n')
+    with pytest.raises(ValueError, match="wind_speed"):
+        load_scenario(file).solve_kwargs()
