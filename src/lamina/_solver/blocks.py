@@ -20,16 +20,16 @@ from lamina._checks import require_range
 from lamina._solver.common import (
     POSITION_DIM,
     SUN_DIM,
+    SURFACE_CORE_DIMS,
+    SURFACE_KEYWORDS,
     Block,
     BlockSettings,
     Fields,
     Options,
+    SurfaceArrays,
     ThermalSources,
     beam_cosines,
 )
-from lamina._solver.surface_terms import CORE_DIMS as SURFACE_CORE_DIMS
-from lamina._solver.surface_terms import KERNEL_KEYWORDS as SURFACE_KEYWORDS
-from lamina._solver.surface_terms import SurfaceArrays
 from lamina.atmosphere import check_moment_values
 
 #: Core dims of the block inputs, in the order of the block function's arguments.
@@ -58,7 +58,7 @@ def plan_blocks(atmosphere: xr.Dataset, options: Options, sources: ThermalSource
     """The inputs of every block, their core dims, and the outputs' names and dims.
 
     A bidirectional ``surface`` appends its arrays to the inputs (after the nine of
-    ``INPUT_CORE_DIMS``, with the core dims of ``surface_terms.CORE_DIMS``).
+    ``INPUT_CORE_DIMS``, with the core dims of ``common.SURFACE_CORE_DIMS``).
     """
     optics = [atmosphere[name] for name in
               ("optical_depth", "single_scattering_albedo", "phase_moments")]

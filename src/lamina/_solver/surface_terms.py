@@ -21,45 +21,21 @@ the block inputs. The kernel's ``boundary`` module docstring derives how they en
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass
 
 import numpy as np
 import xarray as xr
 
-from lamina._solver.common import SUN_DIM, Options
-from lamina.quadrature import double_gauss
-
-TERM_DIM = "_term"
-QUADRATURE_DIM = "_quadrature"
-INCIDENT_DIM = "_incident"
-VIEW_DIM = "_view"
-VIEW_AZIMUTH_DIM = "_view_azimuth"
-
-#: Core dims of the surface's block inputs, in the order of :attr:`SurfaceArrays.arrays`
-#: (and of the kernel's keywords).
-CORE_DIMS = (
-    [TERM_DIM, QUADRATURE_DIM, INCIDENT_DIM],
-    [SUN_DIM, TERM_DIM, QUADRATURE_DIM],
-    [TERM_DIM, VIEW_DIM, INCIDENT_DIM],
-    [SUN_DIM, VIEW_DIM, VIEW_AZIMUTH_DIM],
-    [QUADRATURE_DIM],
-    [VIEW_DIM],
+from lamina._solver.common import (
+    QUADRATURE_DIM,
+    SURFACE_CORE_DIMS,
+    VIEW_DIM,
+    Options,
+    SurfaceArrays,
 )
-
-#: The kernel's keyword for each array, in the same order.
-KERNEL_KEYWORDS = ("surface_fourier", "surface_beam_fourier", "surface_view_fourier",
-                   "surface_view_beam", "surface_emissivity", "surface_view_emissivity")
+from lamina.quadrature import double_gauss
 
 # Largest number of float64 elements of one block of BRDF evaluations (about 16 MB).
 _BLOCK_ELEMENTS = 2_000_000
-
-
-@dataclass(frozen=True, eq=False)
-class SurfaceArrays:
-    """The surface's block inputs (see the module docstring) and a name for the attributes."""
-
-    arrays: tuple[xr.DataArray, ...]
-    description: str
 
 
 def check_surface(surface: object, surface_albedo: object) -> None:
@@ -113,11 +89,11 @@ def surface_arrays(surface: object, options: Options, thermal: bool) -> SurfaceA
 
     arrays = (
         _over_parameters(surface, None, quadrature, (terms, mu.size, mu.size),
-                         CORE_DIMS[0]),
-        _over_parameters(surface, mu0, beam, (terms, mu.size), CORE_DIMS[1][1:]),
-        _over_parameters(surface, None, view, (terms, view_mu.size, mu.size), CORE_DIMS[2]),
+                         SURFACE_CORE_DIMS[0]),
+        _over_parameters(surface, mu0, beam, (terms, mu.size), SURFACE_CORE_DIMS[1][1:]),
+        _over_parameters(surface, None, view, (terms, view_mu.size, mu.size), SURFACE_CORE_DIMS[2]),
         _over_parameters(surface, mu0, view_beam, (view_mu.size, cos_phi.size),
-                         CORE_DIMS[3][1:]),
+                         SURFACE_CORE_DIMS[3][1:]),
         _emissivity(surface, mu, QUADRATURE_DIM, thermal),
         _emissivity(surface, view_mu, VIEW_DIM, thermal),
     )
