@@ -18,6 +18,12 @@ the beam's layer integrals once per column unless the resonance shift moves mu0;
 across whole layers reuse those cached exponentials where 1 - exp(-x) is not small; output
 positions on a level reuse the level values.
 
+The surface's upward radiance at the view cosines is the term's reflection of the
+downward quadrature radiance (Lambertian: ``surface_radiance``; bidirectional:
+``bidirectional_surface_radiance`` with the BRDF's own terms at each view cosine), and a
+bidirectional surface's reflection of the direct beam is added once per column with the
+exact BRDF (``surface_beam_views``; ``boundary``'s docstring derives both).
+
 A new source term adds its coefficients to ``user_sources`` and its integral to the four
 ``*_partial`` / ``*_layer`` functions; Stokes components make J a vector and the phase
 quadrature a matrix product; derivatives differentiate these integrals in turn.
