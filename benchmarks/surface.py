@@ -24,8 +24,9 @@ import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-import lamina  # noqa: E402
 from run import SUN_ZENITH, VIEW_AZIMUTH, VIEW_ZENITH, random_atmosphere  # noqa: E402
+
+import lamina  # noqa: E402
 
 SURFACES = {
     "rahman_pinty_verstraete": lambda: lamina.surface.rahman_pinty_verstraete(0.1, 0.7, -0.2),
