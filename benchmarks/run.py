@@ -249,10 +249,10 @@ class KernelClock:
         self.original = _kernel.solve_columns
 
     def __enter__(self):
-        def timed(*args):
+        def timed(*args, **kwargs):
             start = time.perf_counter()
             try:
-                return self.original(*args)
+                return self.original(*args, **kwargs)
             finally:
                 self.elapsed += time.perf_counter() - start
 

@@ -31,6 +31,7 @@ from lamina._solver.options import check_options
 from lamina._solver.outputs import assemble
 from lamina._solver.phase_checks import warn_about_phase_functions
 from lamina._solver.scaling import scale_layers
+from lamina._solver.surface_terms import check_surface, surface_arrays
 from lamina._solver.thermal_sources import planck_sources
 from lamina.atmosphere import check_atmosphere
 
@@ -65,6 +66,7 @@ def solve(
     max_fourier_terms: int | None = None,
     gravity: float = EARTH_GRAVITY,
     heat_capacity: float = DRY_AIR_HEAT_CAPACITY,
+    surface: object = None,
 ) -> xr.Dataset:
     """Radiances, fluxes and mean intensities in a layered plane-parallel atmosphere.
 
@@ -133,6 +135,13 @@ def solve(
     gravity, heat_capacity : float
         g (m s-2) and c_p (J kg-1 K-1) for heating rates; defaults are Earth air
         (9.80665 and 1004).
+    surface : lamina.surface.Surface, optional
+        A bidirectional surface (``lamina.surface.cox_munk(5.0)``,
+        ``lamina.surface.ross_li(...)``, a weighted sum, ...) instead of
+        ``surface_albedo`` (giving both is a ValueError). Its BRDF's Fourier terms enter the
+        bottom boundary condition, the direct beam is reflected with the exact BRDF at the
+        view angles, and a thermal run's surface emits with the directional emissivity
+        1 - directional albedo. Its directional albedo is checked at the run's sun angles.
 
     Returns
     -------
@@ -152,6 +161,7 @@ def solve(
     """
     # check
     check_atmosphere(atmosphere)
+    check_surface(surface, surface_albedo)
     options = check_options(
         atmosphere, streams=streams, sun_zenith=sun_zenith, sun_irradiance=sun_irradiance,
         surface_albedo=surface_albedo, view_zenith=view_zenith, view_azimuth=view_azimuth,
@@ -161,8 +171,9 @@ def solve(
         max_fourier_terms=max_fourier_terms, gravity=gravity, heat_capacity=heat_capacity,
     )
     sources = planck_sources(atmosphere, wavenumber_band, wavenumber, surface_temperature)
+    bidirectional = surface_arrays(surface, options, sources.thermal)
     # plan
-    plan = plan_blocks(atmosphere, options, sources)
+    plan = plan_blocks(atmosphere, options, sources, bidirectional)
     # apply over blocks
     results = xr.apply_ufunc(
         _solve_block, *plan.inputs,
@@ -188,12 +199,16 @@ def _solve_block(
     planck_levels: np.ndarray,
     planck_surface: np.ndarray,
     top_radiance: np.ndarray,
-    *,
+    *surface: np.ndarray,
     settings: BlockSettings,
 ) -> tuple[np.ndarray, ...]:
-    """Solve one block of columns (numpy in, numpy out); leading axes are columns."""
+    """Solve one block of columns (numpy in, numpy out); leading axes are columns.
+
+    ``surface``: the arrays of a bidirectional surface (``_solver.surface_terms``), if any.
+    """
     block = prepare_block(tau, albedo, moments, sun_zenith, irradiance, surface_albedo,
-                          planck_levels, planck_surface, top_radiance, settings)
+                          planck_levels, planck_surface, top_radiance, settings,
+                          surface=surface)
     warn_about_phase_functions(block, settings)
     layers = scale_layers(block.optical_depth, block.single_scattering_albedo,
                           block.phase_moments, settings.streams, settings.delta_m)

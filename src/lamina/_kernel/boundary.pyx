@@ -15,9 +15,35 @@ solved by banded LU (dgbtrf/dgbtrs), one factorisation for all sun angles.
 The surface enters in one place only, ``surface_reflection``: for a Lambertian surface, term
 0, the upward radiance at mu_i is sum_j 2 A w_j mu_j I-(mu_j), the same weights for every i
 (kept as one row ``sc.refl``), and the direct beam's reflection is A mu0 F0 exp(-tau/mu0)/pi.
-A bidirectional surface replaces this with a per-term n x n reflection matrix R_ij (and
-the beam's reflection with its own column): ``surface_reflection`` fills it, and
+A bidirectional surface replaces this with a per-term n x n reflection matrix ``sc.reflm``
+(and the beam's reflection with one value per quadrature cosine, ``sc.beamq``);
 ``bottom_rows``, ``bottom_sources`` and ``sources.view_radiances``'s surface term apply it.
+
+The bidirectional boundary condition (derived here; the published forms are Thomas and
+Stamnes 1999, the chapter on the bottom boundary, and Spurr 2004 for the Fourier terms).
+With the BRDF f(mu, mu', phi - phi') in sr^-1 (phi of the reflected, phi' of the incident
+propagation) the radiance leaving the surface is the rendering equation
+
+    I+(mu, phi) = int_0^2pi int_0^1 f(mu, mu', phi - phi') I-(mu', phi') mu' dmu' dphi'
+                  + mu0 S exp(-tau / mu0) f(mu, mu0, phi) + e(mu) B,
+
+the beam propagating at phi = 0 (lamina's azimuth), e = 1 - A(mu) the directional emissivity
+and B the surface's Planck radiance. The radiance is expanded as I = sum_m I^m cos(m phi)
+and the BRDF as f = sum_m (2 - delta_m0) f_m cos(m phi) (``Surface.fourier_terms``). Since
+int_0^2pi cos(m (phi - phi')) cos(k phi') dphi' = (1 + delta_m0) pi delta_mk cos(m phi),
+and (2 - delta_m0)(1 + delta_m0) = 2 for every m, term m of the diffuse reflection is
+
+    I+^m(mu) = 2 pi int_0^1 f_m(mu, mu') I-^m(mu') mu' dmu'
+             ~ sum_j R_ij I-^m(mu_j),   R_ij = 2 pi w_j mu_j f_m(mu_i, mu_j),
+
+(double-Gauss weights w_j summing to 1 on (0, 1)), and term m of the beam's reflection is
+(2 - delta_m0) mu0 S exp(-tau / mu0) f_m(mu_i, mu0). The Lambertian case f = A / pi has
+f_0 = A / pi and f_m = 0 for m > 0: R_ij = 2 A w_j mu_j and the beam's term A mu0 S
+exp(-tau/mu0) / pi, exactly the Lambertian weights above. The surface term at each view
+cosine mu_u uses the same sum with f_m(mu_u, mu_j) (the exact BRDF at the view cosine, no
+interpolation between quadrature cosines); the beam's reflection towards the view angles is
+added once per column with the exact f(mu_u, mu0, phi) (``sources.surface_beam_views``), so
+a glint narrower than the Fourier series can carry is still exact there.
 """
 
 from libc.math cimport exp
@@ -40,10 +66,14 @@ cdef void surface_reflection(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Gri
 
     Lambertian: only term 0 reflects, refl_j = 2 A w_j mu_j (the upward radiance is
     sum_j refl_j I-(mu_j) at every quadrature cosine) and the direct beam's reflection is
-    A / pi mu0 F0 exp(-tau_total / mu0). Zero for every other term.
+    A / pi mu0 F0 exp(-tau_total / mu0). Zero for every other term. A bidirectional surface
+    fills ``sc.reflm``, ``sc.reflv`` and ``sc.beamq`` instead (``brdf_reflection``).
     """
     cdef Py_ssize_t j, s, layer
     cdef double albedo = cl.surface_albedo, total = 0.0, sec
+    if cl.bidirectional:
+        brdf_reflection(sz, sc, cl, gr, mode)
+        return
     for j in range(sz.n):
         sc.refl[j] = 0.0
         if mode == 0 and albedo > 0.0:
@@ -55,6 +85,35 @@ cdef void surface_reflection(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Gri
         sc.surfbeam[s] = 0.0
         if mode == 0:
             sc.surfbeam[s] = albedo / PI * sc.mu0e[s] * cl.irradiance[s] * exp(-total * sec)
+
+
+cdef void brdf_reflection(Sizes *sz, Scratch *sc, Column *cl, Grid *gr,
+                          Py_ssize_t mode) noexcept nogil:
+    """Term ``mode`` of a bidirectional surface (the module docstring derives it).
+
+    R_ij = 2 pi w_j mu_j f_m(mu_i, mu_j) into ``sc.reflm`` (row i), the same at the view
+    cosines into ``sc.reflv`` (row u), and the beam's reflection (2 - delta_m0) mu0 S
+    exp(-tau_total / mu0) f_m(mu_i, mu0) into ``sc.beamq``. Terms beyond those given are 0.
+    """
+    cdef Py_ssize_t n = sz.n, i, j, u, s, layer
+    cdef double total = 0.0, weight, beam
+    cdef bint given = mode < cl.surface_terms
+    cdef const double *fq = cl.brdf_quadrature + mode * n * n
+    cdef const double *fv = cl.brdf_view + mode * sz.nvz * n
+    for j in range(n):
+        weight = 2.0 * PI * gr.wq[j] * gr.mu[j] if given else 0.0
+        for i in range(n):
+            sc.reflm[i * n + j] = weight * fq[i * n + j] if given else 0.0
+        for u in range(sz.nvz):
+            sc.reflv[u * n + j] = weight * fv[u * n + j] if given else 0.0
+    for layer in range(sz.nlayer):
+        total = total + cl.tau[layer]
+    for s in range(sz.nsun):
+        beam = (1.0 if mode == 0 else 2.0) * sc.mu0e[s] * cl.irradiance[s] \
+            * exp(-total / sc.mu0e[s])
+        for i in range(n):
+            sc.beamq[s * n + i] = beam * cl.brdf_beam[(s * cl.surface_terms + mode) * n + i] \
+                if given else 0.0
 
 
 cdef void zero_band(Sizes *sz, Scratch *sc) noexcept nogil:
@@ -124,7 +183,8 @@ cdef void top_and_interface_rows(Sizes *sz, Scratch *sc, Layers *ly) noexcept no
                 band_put(sc, row + n + i, col + 3 * n + kk, -gp2[i + kk * n] * e)
 
 
-cdef void bottom_rows(Sizes *sz, Scratch *sc, Layers *ly, bint reflects) noexcept nogil:
+cdef void bottom_rows(Sizes *sz, Scratch *sc, Layers *ly, Column *cl,
+                      bint reflects) noexcept nogil:
     """Rows of the bottom condition: upward radiance minus the surface's reflection of it."""
     cdef Py_ssize_t n = sz.n, i, j, kk
     cdef Py_ssize_t layer = sz.nlayer - 1, row = 2 * n * sz.nlayer - n, col = 2 * n * layer
@@ -132,6 +192,9 @@ cdef void bottom_rows(Sizes *sz, Scratch *sc, Layers *ly, bint reflects) noexcep
     cdef double *gp = ly.gp + layer * n * n
     cdef double *gm = ly.gm + layer * n * n
     cdef double *kv = ly.ek + layer * n
+    if cl.bidirectional:
+        bidirectional_rows(sz, sc, ly, row, col)
+        return
     for kk in range(n):
         rp = 0.0
         rm = 0.0
@@ -145,6 +208,28 @@ cdef void bottom_rows(Sizes *sz, Scratch *sc, Layers *ly, bint reflects) noexcep
             band_put(sc, row + i, col + n + kk, gm[i + kk * n] - rp)
 
 
+cdef void bidirectional_rows(Sizes *sz, Scratch *sc, Layers *ly, Py_ssize_t row,
+                             Py_ssize_t col) noexcept nogil:
+    """``bottom_rows`` with the reflection matrix R_ij of a bidirectional surface."""
+    cdef Py_ssize_t n = sz.n, i, j, kk, layer = sz.nlayer - 1
+    cdef double e, rp, rm
+    cdef double *gp = ly.gp + layer * n * n
+    cdef double *gm = ly.gm + layer * n * n
+    cdef double *kv = ly.ek + layer * n
+    cdef double *r
+    for kk in range(n):
+        e = kv[kk]
+        for i in range(n):
+            r = sc.reflm + i * n
+            rp = 0.0
+            rm = 0.0
+            for j in range(n):
+                rm = rm + r[j] * gm[j + kk * n]
+                rp = rp + r[j] * gp[j + kk * n]
+            band_put(sc, row + i, col + kk, (gp[i + kk * n] - rm) * e)
+            band_put(sc, row + i, col + n + kk, gm[i + kk * n] - rp)
+
+
 cdef void bottom_sources(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Py_ssize_t sun,
                          bint reflects, bint iso, bint thermal) noexcept nogil:
     """Right-hand side of the bottom condition for one sun angle."""
@@ -153,6 +238,9 @@ cdef void bottom_sources(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Py_ssiz
     cdef double refl = 0.0, pa, pb
     cdef double depth = cl.tau[layer], beam = ly.eb[layer * sz.nsun + sun]
     cdef double emission = cl.surface_planck * (1.0 - cl.surface_albedo) if cl.thermal else 0.0
+    if cl.bidirectional:
+        bidirectional_sources(sz, sc, ly, cl, sun, iso, thermal)
+        return
     if reflects:
         for j in range(n):
             refl = refl + sc.refl[j] \
@@ -160,6 +248,27 @@ cdef void bottom_sources(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Py_ssiz
     for i in range(n):
         pa = particular_at(sz, ly, layer, sun, i, True, depth, beam, thermal)
         pb = sc.surfbeam[sun] + (emission if iso else 0.0)
+        ly.coef[sun * neq + row + i] = pb - (pa - refl)
+
+
+cdef void bidirectional_sources(Sizes *sz, Scratch *sc, Layers *ly, Column *cl,
+                                Py_ssize_t sun, bint iso, bint thermal) noexcept nogil:
+    """``bottom_sources`` of a bidirectional surface: R_ij, the beam per mu_i, e(mu_i) B."""
+    cdef Py_ssize_t n = sz.n, i, j, neq = 2 * sz.n * sz.nlayer
+    cdef Py_ssize_t layer = sz.nlayer - 1, row = 2 * n * sz.nlayer - n
+    cdef double refl, pa, pb
+    cdef double depth = cl.tau[layer], beam = ly.eb[layer * sz.nsun + sun]
+    cdef bint emits = cl.thermal and iso
+    for j in range(n):
+        sc.downq[j] = particular_at(sz, ly, layer, sun, j, False, depth, beam, thermal)
+    for i in range(n):
+        refl = 0.0
+        for j in range(n):
+            refl = refl + sc.reflm[i * n + j] * sc.downq[j]
+        pa = particular_at(sz, ly, layer, sun, i, True, depth, beam, thermal)
+        pb = sc.beamq[sun * n + i]
+        if emits:
+            pb = pb + cl.emissivity_quadrature[i] * cl.surface_planck
         ly.coef[sun * neq + row + i] = pb - (pa - refl)
 
 
@@ -201,7 +310,7 @@ cdef int solve_boundary_values(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, G
     surface_reflection(sz, sc, ly, cl, gr, mode)
     zero_band(sz, sc)
     top_and_interface_rows(sz, sc, ly)
-    bottom_rows(sz, sc, ly, reflects)
+    bottom_rows(sz, sc, ly, cl, reflects)
     dgbtrf(&neqi, &neqi, &sc.kl, &sc.kl, sc.ab, &sc.ldab, sc.ipiv, &info)
     if info != 0:
         failed_info[0] = info

@@ -69,6 +69,15 @@ cdef struct Column:
     double surface_planck
     double top_radiance
     bint thermal
+    # a bidirectional surface (boundary.surface_reflection); Lambertian when False
+    bint bidirectional
+    Py_ssize_t surface_terms            # Fourier terms of the BRDF given
+    const double *brdf_quadrature       # [term][n reflected][n incident] f_m(mu_i, mu_j)
+    const double *brdf_beam             # [sun][term][n] f_m(mu_i, mu0)
+    const double *brdf_view             # [term][nvz][n] f_m(mu_u, mu_j)
+    const double *brdf_view_beam        # [sun][nvz][nva] f(mu_u, mu0, phi), exact
+    const double *emissivity_quadrature     # [n] 1 - directional albedo at mu_i
+    const double *emissivity_view           # [nvz] at mu_u
 
 
 cdef struct Grid:
@@ -130,6 +139,11 @@ cdef struct Scratch:
     double *mu0e      # [sun] mu0 used for this Fourier term (resonance shift)
     double *surfbeam  # [sun] the surface's reflection of the direct beam, this term
     double *refl      # [n] surface reflection weights of this term (boundary.surface_reflection)
+    # a bidirectional surface, this term (boundary.surface_reflection)
+    double *reflm     # [n x n] R_ij = 2 pi w_j mu_j f_m(mu_i, mu_j), row i
+    double *reflv     # [nvz x n] the same at the view cosines, row u
+    double *beamq     # [sun][n] the direct beam's reflection into mu_i
+    double *downq     # [n] downward quadrature radiance at the surface
     # user angles
     double *pup       # [nvz x n] (w/2) w_j p(mu_u, mu_j)
     double *pum       # [nvz x n] (w/2) w_j p(mu_u, -mu_j)

@@ -45,7 +45,9 @@ from lamina._kernel.common cimport (
     dexp_from_zero, legendre_table,
 )
 from lamina._kernel.layers cimport beam_geometry, homogeneous_solutions, particular_solutions
-from lamina._kernel.sources cimport fluxes, view_radiances, view_sources, view_transmittances
+from lamina._kernel.sources cimport (
+    fluxes, surface_beam_views, view_radiances, view_sources, view_transmittances,
+)
 
 import numpy as np
 
@@ -125,6 +127,7 @@ def _workspace_sizes(Py_ssize_t n, Py_ssize_t nlay, Py_ssize_t nsun, Py_ssize_t 
         "et": nlay * nvz, "dA": nlay * nvz * n, "dB": nlay * nvz * n,
         "cosm": max(nva, 1), "acc": 2 * n,
         "bA": nlay * nsun * nvz, "bB": nlay * nsun * nvz, "mu0done": nsun, "beamdone": nsun,
+        "reflm": n * n, "reflv": nvz * n, "beamq": nsun * n, "downq": n,
     }
 
 
@@ -191,6 +194,10 @@ cdef void point_workspace(double *base, dict at, Layers *ly, Scratch *sc, Grid *
     sc.bB = base + <Py_ssize_t>at["bB"]
     sc.mu0done = base + <Py_ssize_t>at["mu0done"]
     sc.beamdone = base + <Py_ssize_t>at["beamdone"]
+    sc.reflm = base + <Py_ssize_t>at["reflm"]
+    sc.reflv = base + <Py_ssize_t>at["reflv"]
+    sc.beamq = base + <Py_ssize_t>at["beamq"]
+    sc.downq = base + <Py_ssize_t>at["downq"]
     gr.mu = base + <Py_ssize_t>at["mu"]
     gr.wq = base + <Py_ssize_t>at["wq"]
     gr.sqw = base + <Py_ssize_t>at["sqw"]
@@ -372,6 +379,13 @@ def solve_columns(
     double[:, :, :, :, :, ::1] radiance,
     long long[::1] fourier_terms,
     long long[:, ::1] status,
+    *,
+    const double[:, :, :, ::1] surface_fourier=None,
+    const double[:, :, :, ::1] surface_beam_fourier=None,
+    const double[:, :, :, ::1] surface_view_fourier=None,
+    const double[:, :, :, ::1] surface_view_beam=None,
+    const double[:, ::1] surface_emissivity=None,
+    const double[:, ::1] surface_view_emissivity=None,
 ):
     """Solve many columns (see the module docstring for the method).
 
@@ -383,6 +397,14 @@ def solve_columns(
     (diffuse) (column, sun, pos); radiance (column, sun, pos, 2, vz, va), direction 0 up,
     1 down; fourier_terms (column,); status (column, 4) = (code, layer, term, info), code 0
     on success. Every output is overwritten.
+
+    A bidirectional surface (all six keywords, or none for the Lambertian
+    ``surface_albedo``): surface_fourier (column, term, n, n) the BRDF's Fourier terms
+    f_m(mu_i, mu_j), reflected x incident, on the quadrature cosines; surface_beam_fourier
+    (column, sun, term, n) f_m(mu_i, mu0); surface_view_fourier (column, term, vz, n)
+    f_m(mu_u, mu_j); surface_view_beam (column, sun, vz, va) the exact f(mu_u, mu0, phi);
+    surface_emissivity (column, n) and surface_view_emissivity (column, vz), 1 - the
+    directional albedo. ``surface_albedo`` is then ignored.
     """
     cdef Sizes sz
     cdef Scratch sc
@@ -393,7 +415,7 @@ def solve_columns(
     cdef Py_ssize_t ncol = optical_depth.shape[0]
     cdef Py_ssize_t n = quadrature_cosines.shape[0]
     cdef Py_ssize_t col, i, nmodes
-    cdef bint want_radiance
+    cdef bint want_radiance, bidirectional
 
     sz.n = n
     sz.nl = 2 * n
@@ -433,6 +455,12 @@ def solve_columns(
         np.asarray(position_layer),
     )
     nmodes = min(max(1, max_fourier_terms), sz.nl) if want_radiance else 1
+    bidirectional = _check_surface(
+        ncol, n, sz.nsun, sz.nvz, sz.nva,
+        (surface_fourier, surface_beam_fourier, surface_view_fourier, surface_view_beam,
+         surface_emissivity, surface_view_emissivity))
+    cl.bidirectional = bidirectional
+    cl.surface_terms = surface_fourier.shape[1] if bidirectional else 0
 
     # one pool of workspace for a column, reused by every column (kept alive here)
     _workspace = allocate_workspace(&sz, &ly, &sc, &gr)
@@ -458,6 +486,10 @@ def solve_columns(
             cl.surface_albedo = surface_albedo[col]
             cl.surface_planck = planck_surface[col]
             cl.top_radiance = top_radiance[col]
+            if bidirectional:
+                point_surface(&cl, col, sz.nvz, sz.nva, surface_fourier, surface_beam_fourier,
+                              surface_view_fourier, surface_view_beam, surface_emissivity,
+                              surface_view_emissivity)
             out.flux_up = &flux_up[col, 0, 0]
             out.flux_down = &flux_down[col, 0, 0]
             out.mean_intensity = &mean_intensity[col, 0, 0]
@@ -465,10 +497,46 @@ def solve_columns(
             out.fourier_terms = &fourier_terms[col]
             out.status = &status[col, 0]
             start_column(&sz, &sc, &ly, &cl, &gr, want_radiance, &out)
+            if bidirectional and want_radiance:
+                surface_beam_views(&sz, &cl, &gr, out.radiance)
             if solve_column(&sz, &sc, &ly, &cl, &gr, nmodes, fourier_tolerance,
                             want_radiance, &out) == 0:
                 check_finite(&sz, &out)
     return None
+
+
+def _check_surface(ncol, n, nsun, nvz, nva, arrays):
+    """True for a bidirectional surface; refuse a partial or mis-shaped set of its arrays."""
+    names = ("surface_fourier", "surface_beam_fourier", "surface_view_fourier",
+             "surface_view_beam", "surface_emissivity", "surface_view_emissivity")
+    given = [array is not None for array in arrays]
+    if not any(given):
+        return False
+    if not all(given):
+        raise ValueError("solve_columns: give all of " + ", ".join(names) + " or none")
+    shapes = [tuple(np.asarray(array).shape) for array in arrays]
+    terms = shapes[0][1]
+    expected = [(ncol, terms, n, n), (ncol, nsun, terms, n), (ncol, terms, nvz, n),
+                (ncol, nsun, nvz, nva), (ncol, n), (ncol, nvz)]
+    if terms < 1:
+        raise ValueError("solve_columns: surface_fourier needs at least one term")
+    for name, shape, want in zip(names, shapes, expected):
+        if shape != want:
+            raise ValueError(f"solve_columns: {name} has shape {shape}, expected {want}")
+    return True
+
+
+cdef void point_surface(Column *cl, Py_ssize_t col, Py_ssize_t nvz, Py_ssize_t nva,
+                        const double[:, :, :, ::1] fq, const double[:, :, :, ::1] fb,
+                        const double[:, :, :, ::1] fv, const double[:, :, :, ::1] fvb,
+                        const double[:, ::1] eq, const double[:, ::1] ev) noexcept nogil:
+    """Point the column's surface arrays at row ``col`` (views may be empty)."""
+    cl.brdf_quadrature = &fq[col, 0, 0, 0]
+    cl.brdf_beam = &fb[col, 0, 0, 0]
+    cl.emissivity_quadrature = &eq[col, 0]
+    cl.brdf_view = &fv[col, 0, 0, 0] if nvz > 0 else NULL
+    cl.brdf_view_beam = &fvb[col, 0, 0, 0] if nvz > 0 and nva > 0 else NULL
+    cl.emissivity_view = &ev[col, 0] if nvz > 0 else NULL
 
 
 def dexp_for_tests(double a, double b, double length):

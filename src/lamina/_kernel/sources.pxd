@@ -11,3 +11,4 @@ cdef void fluxes(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Grid *gr, doubl
                  double *flux_down, double *mean_intensity) noexcept nogil
 cdef void view_radiances(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Grid *gr,
                          Py_ssize_t mode) noexcept nogil
+cdef void surface_beam_views(Sizes *sz, Column *cl, Grid *gr, double *radiance) noexcept nogil

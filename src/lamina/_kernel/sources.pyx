@@ -18,6 +18,12 @@ the beam's layer integrals once per column unless the resonance shift moves mu0;
 across whole layers reuse those cached exponentials where 1 - exp(-x) is not small; output
 positions on a level reuse the level values.
 
+The surface's upward radiance at the view cosines is the term's reflection of the
+downward quadrature radiance (Lambertian: ``surface_radiance``; bidirectional:
+``bidirectional_surface_radiance`` with the BRDF's own terms at each view cosine), and a
+bidirectional surface's reflection of the direct beam is added once per column with the
+exact BRDF (``surface_beam_views``; ``boundary``'s docstring derives both).
+
 A new source term adds its coefficients to ``user_sources`` and its integral to the four
 ``*_partial`` / ``*_layer`` functions; Stokes components make J a vector and the phase
 quadrature a matrix product; derivatives differentiate these integrals in turn.
@@ -430,11 +436,73 @@ cdef void view_radiances(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Grid *g
     Needs ``view_sources`` of the term and the solved boundary-value problem.
     """
     cdef Py_ssize_t s, u
-    cdef double surface
+    cdef double surface = 0.0
     layer_integrals(sz, sc, ly, cl, gr)
     for s in range(sz.nsun):
         beam_integrals(sz, sc, ly, cl, gr, s)
-        surface = surface_radiance(sz, sc, ly, cl, gr, mode, s)
+        if cl.bidirectional:
+            surface_downward(sz, sc, ly, cl, s)
+        else:
+            surface = surface_radiance(sz, sc, ly, cl, gr, mode, s)
         for u in range(sz.nvz):
+            if cl.bidirectional:
+                surface = bidirectional_surface_radiance(sz, sc, cl, mode, u)
             level_sweeps(sz, sc, ly, cl, gr, mode, s, u, surface)
             position_radiances(sz, sc, ly, cl, gr, mode, s, u)
+
+
+cdef void surface_downward(Sizes *sz, Scratch *sc, Layers *ly, Column *cl,
+                           Py_ssize_t s) noexcept nogil:
+    """Downward quadrature radiance of the term at the surface into ``sc.downq``."""
+    cdef Py_ssize_t n = sz.n, i, layer = sz.nlayer - 1
+    for i in range(n):
+        sc.downq[i] = quadrature_radiance(sz, ly, layer, s, i, False, cl.tau[layer],
+                                          ly.eb[layer * sz.nsun + s], &ly.ek[layer * n],
+                                          sc.ones, cl.thermal)
+
+
+cdef inline double bidirectional_surface_radiance(Sizes *sz, Scratch *sc, Column *cl,
+                                                  Py_ssize_t mode, Py_ssize_t u) noexcept nogil:
+    """Term ``mode`` of the radiance leaving a bidirectional surface towards view cosine u.
+
+    sum_j 2 pi w_j mu_j f_m(mu_u, mu_j) I-^m(mu_j) with the BRDF's own terms at mu_u
+    (``sc.reflv``, from ``boundary.surface_reflection``), plus e(mu_u) B in term 0 of a
+    thermal run. The direct beam's reflection is not here: ``surface_beam_views`` adds it
+    with the exact BRDF, outside the Fourier series.
+    """
+    cdef Py_ssize_t n = sz.n, j
+    cdef double x = 0.0
+    for j in range(n):
+        x = x + sc.reflv[u * n + j] * sc.downq[j]
+    if cl.thermal and mode == 0:
+        x = x + cl.emissivity_view[u] * cl.surface_planck
+    return x
+
+
+cdef void surface_beam_views(Sizes *sz, Column *cl, Grid *gr, double *radiance) noexcept nogil:
+    """Add the direct beam's reflection by the exact BRDF to the upward view radiances.
+
+    mu0 S exp(-tau_total / mu0) f(mu_u, mu0, phi) at the surface, attenuated by
+    exp(-(tau_total - tau_p) / mu_u) up to each output position p; once per column, since
+    the exact BRDF is no single Fourier term. ``radiance`` is the column's block
+    [sun][pos][2][nvz][nva].
+    """
+    cdef Py_ssize_t s, p, u, a, layer, nvz = sz.nvz, nva = sz.nva
+    cdef double total = 0.0, depth, beam, path
+    cdef const double *f
+    cdef double *out
+    for layer in range(sz.nlayer):
+        total = total + cl.tau[layer]
+    for s in range(sz.nsun):
+        beam = cl.mu0[s] * cl.irradiance[s] * exp(-total / cl.mu0[s])
+        for p in range(sz.npos):
+            depth = 0.0
+            for layer in range(gr.position_layer[p]):
+                depth = depth + cl.tau[layer]
+            depth = depth + gr.position_fraction[p] * cl.tau[gr.position_layer[p]]
+            for u in range(nvz):
+                path = beam * exp(-max(total - depth, 0.0) / gr.umu[u])
+                f = cl.brdf_view_beam + (s * nvz + u) * nva
+                out = radiance + ((s * sz.npos + p) * 2 * nvz + u) * nva
+                for a in range(nva):
+                    out[a] = out[a] + path * f[a]

@@ -4,6 +4,8 @@
 
     check    options.check_options            options, geometry, output positions
              thermal_sources.planck_sources   Planck radiance at the levels and the surface
+             surface_terms.surface_arrays     a bidirectional surface's BRDF terms and
+                                              emissivities for the kernel (surface=)
     plan     blocks.plan_blocks               which arrays go to each block, with which dims
     apply    xarray.apply_ufunc over blocks   (dask: one call per chunk of columns)
     describe outputs.assemble                 the Dataset: names, units, CF attributes,

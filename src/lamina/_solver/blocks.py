@@ -20,10 +20,13 @@ from lamina._checks import require_range
 from lamina._solver.common import (
     POSITION_DIM,
     SUN_DIM,
+    SURFACE_CORE_DIMS,
+    SURFACE_KEYWORDS,
     Block,
     BlockSettings,
     Fields,
     Options,
+    SurfaceArrays,
     ThermalSources,
     beam_cosines,
 )
@@ -50,8 +53,13 @@ class BlockPlan:
     settings: BlockSettings
 
 
-def plan_blocks(atmosphere: xr.Dataset, options: Options, sources: ThermalSources) -> BlockPlan:
-    """The inputs of every block, their core dims, and the outputs' names and dims."""
+def plan_blocks(atmosphere: xr.Dataset, options: Options, sources: ThermalSources,
+                surface: SurfaceArrays | None = None) -> BlockPlan:
+    """The inputs of every block, their core dims, and the outputs' names and dims.
+
+    A bidirectional ``surface`` appends its arrays to the inputs (after the nine of
+    ``INPUT_CORE_DIMS``, with the core dims of ``common.SURFACE_CORE_DIMS``).
+    """
     optics = [atmosphere[name] for name in
               ("optical_depth", "single_scattering_albedo", "phase_moments")]
     inputs = [*optics, options.sun_zenith, options.sun_irradiance, options.surface_albedo,
@@ -67,11 +75,16 @@ def plan_blocks(atmosphere: xr.Dataset, options: Options, sources: ThermalSource
         lazy=any(array.chunks is not None for array in inputs),
         # check_atmosphere has checked the values of optical properties held in memory
         optics_checked=all(array.chunks is None for array in optics),
+        surface=None if surface is None else surface.description,
     )
+    core_in = [list(core) for core in INPUT_CORE_DIMS]
+    if surface is not None:
+        inputs += list(surface.arrays)
+        core_in += [list(core) for core in SURFACE_CORE_DIMS]
     # a core dim must be one dask chunk
     inputs = [
         array.chunk({dim: -1 for dim in core}) if array.chunks is not None else array
-        for array, core in zip(inputs, INPUT_CORE_DIMS, strict=True)
+        for array, core in zip(inputs, core_in, strict=True)
     ]
     names = ["flux_up", "flux_down_diffuse", "flux_down_direct", "mean_intensity"]
     core_out = [[SUN_DIM, POSITION_DIM]] * 4
@@ -84,7 +97,7 @@ def plan_blocks(atmosphere: xr.Dataset, options: Options, sources: ThermalSource
     names += ["fourier_terms", "cumulative_optical_depth"]
     core_out += [[], [POSITION_DIM]]
     return BlockPlan(
-        inputs=inputs, input_core_dims=[list(core) for core in INPUT_CORE_DIMS],
+        inputs=inputs, input_core_dims=core_in,
         output_names=names, output_core_dims=core_out,
         output_dtypes=[np.float64] * (len(core_out) - 2) + [np.int64, np.float64],
         output_sizes=sizes, settings=settings,
@@ -102,12 +115,19 @@ def prepare_block(
     planck_surface: np.ndarray,
     top_radiance: np.ndarray,
     settings: BlockSettings,
+    surface: tuple[np.ndarray, ...] = (),
 ) -> Block:
-    """One block's inputs broadcast to (column, ...), checked, with moments trimmed."""
+    """One block's inputs broadcast to (column, ...), checked, with moments trimmed.
+
+    ``surface``: a bidirectional surface's arrays (core dims last), broadcast to the
+    block's columns for the kernel (empty for the Lambertian ``surface_albedo``).
+    """
     lead = np.broadcast_shapes(
         tau.shape[:-1], albedo.shape[:-1], moments.shape[:-2], sun_zenith.shape[:-1],
         irradiance.shape[:-1], surface_albedo.shape, planck_levels.shape[:-1],
         planck_surface.shape, top_radiance.shape,
+        *(array.shape[:array.ndim - len(core)]
+          for array, core in zip(surface, SURFACE_CORE_DIMS, strict=False)),
     )
     nlayer = tau.shape[-1]
     nsun = sun_zenith.shape[-1]
@@ -143,7 +163,21 @@ def prepare_block(
         sun_irradiance=irradiance, surface_albedo=surface_albedo,
         planck_levels=planck_levels, planck_surface=planck_surface,
         top_diffuse_radiance=top_radiance,
+        surface=_surface_columns(surface, lead, ncol),
     )
+
+
+def _surface_columns(surface: tuple[np.ndarray, ...], lead: tuple[int, ...],
+                     ncol: int) -> dict[str, np.ndarray] | None:
+    """A bidirectional surface's arrays as (column, core...) float64, by kernel keyword."""
+    if not surface:
+        return None
+    columns = {}
+    for name, array, core in zip(SURFACE_KEYWORDS, surface, SURFACE_CORE_DIMS, strict=True):
+        tail = array.shape[array.ndim - len(core):]
+        columns[name] = np.ascontiguousarray(
+            np.broadcast_to(array, (*lead, *tail)).reshape(ncol, *tail), dtype=np.float64)
+    return columns
 
 
 def _trim_moments(moments: np.ndarray) -> np.ndarray:

@@ -32,6 +32,28 @@ SECONDS_PER_DAY = 86400.0
 SUN_DIM = "_sun"
 POSITION_DIM = "_position"
 
+#: Private core dims of a bidirectional surface's block inputs (``surface_terms``)
+TERM_DIM = "_term"
+QUADRATURE_DIM = "_quadrature"
+INCIDENT_DIM = "_incident"
+VIEW_DIM = "_view"
+VIEW_AZIMUTH_DIM = "_view_azimuth"
+
+#: Core dims of the surface's block inputs, in the order of SurfaceArrays.arrays
+#: (and of the kernel's keywords).
+SURFACE_CORE_DIMS = (
+    [TERM_DIM, QUADRATURE_DIM, INCIDENT_DIM],
+    [SUN_DIM, TERM_DIM, QUADRATURE_DIM],
+    [TERM_DIM, VIEW_DIM, INCIDENT_DIM],
+    [SUN_DIM, VIEW_DIM, VIEW_AZIMUTH_DIM],
+    [QUADRATURE_DIM],
+    [VIEW_DIM],
+)
+
+#: The kernel's keyword for each array, in the same order.
+SURFACE_KEYWORDS = ("surface_fourier", "surface_beam_fourier", "surface_view_fourier",
+                    "surface_view_beam", "surface_emissivity", "surface_view_emissivity")
+
 
 class SolverError(RuntimeError):
     """The kernel could not solve a column (a LAPACK failure or a non-finite result)."""
@@ -115,6 +137,14 @@ class ThermalSources:
 
 
 @dataclass(frozen=True, eq=False)
+class SurfaceArrays:
+    """A bidirectional surface's block inputs (see ``surface_terms``) and its description."""
+
+    arrays: tuple[xr.DataArray, ...]
+    description: str
+
+
+@dataclass(frozen=True, eq=False)
 class BlockSettings:
     """What every block of columns needs, the same for all blocks."""
 
@@ -131,6 +161,8 @@ class BlockSettings:
     lazy: bool
     #: True if check_atmosphere has seen the values of the optical properties
     optics_checked: bool
+    #: the bidirectional surface's description (None: the Lambertian surface_albedo)
+    surface: str | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -152,6 +184,9 @@ class Block:
     planck_levels: np.ndarray
     planck_surface: np.ndarray
     top_diffuse_radiance: np.ndarray
+    #: the kernel's arrays of a bidirectional surface by keyword, (column, ...); None for
+    #: the Lambertian surface_albedo
+    surface: dict[str, np.ndarray] | None = None
 
 
 @dataclass(frozen=True, eq=False)

@@ -47,6 +47,7 @@ def solve_block(block: Block, layers: Layers, settings: BlockSettings) -> Fields
         np.ascontiguousarray(views.cosines), np.ascontiguousarray(views.azimuth_radians),
         settings.max_fourier_terms, settings.fourier_tolerance, settings.thermal,
         flux_up, flux_down, mean_intensity, radiance, terms, status,
+        **(block.surface or {}),
     )
     _raise_failure(status)
     return Fields(flux_up=flux_up, flux_down_diffuse=flux_down,

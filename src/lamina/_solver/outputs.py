@@ -186,6 +186,7 @@ def _describe(out: xr.Dataset, units: OutputUnits, settings: BlockSettings,
         "max_fourier_terms": settings.max_fourier_terms,
         "beam_source": int(beam),
         "thermal_source": int(settings.thermal),
+        "surface": settings.surface or "lambertian (surface_albedo)",
         "azimuth_convention": "view_azimuth is measured from the azimuth of the beam's "
                               "propagation: 0 forward-scattering side, 180 backscattering",
     }

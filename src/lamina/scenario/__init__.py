@@ -80,6 +80,8 @@ layer boundaries) too.
     albedo = 0.1                                 # Lambertian, [0, 1]; or a list per wavelength
                                                  # (default 0: a black surface)
     temperature = 288.0                          # K (thermal runs; default: bottom level)
+    # kind = "cox_munk"                          # or a bidirectional surface (see below)
+    # wind_speed = 6.0
 
     [thermal]                                    # optional: thermal emission
     wavenumber_band = [500.0, 1500.0]            # cm-1, band-integrated Planck source
@@ -103,6 +105,16 @@ Phase function kinds (``phase = {kind = ...}``): ``isotropic``; ``henyey_greenst
 (``forward_asymmetry``, ``backward_asymmetry``, ``forward_fraction``); ``rayleigh``
 (``depolarization``, default 0); ``tabulated`` (``angle`` in degrees and ``value`` lists);
 ``legendre`` (``coefficients``, chi_0 = 1 first).
+
+Surface kinds (``[surface] kind = ...``, default ``"lambertian"`` with ``albedo``), the
+functions of :mod:`lamina.surface` with their argument names as keys; every number may be a
+list with one value per wavelength: ``rahman_pinty_verstraete`` (``amplitude``,
+``bowl_exponent``, ``asymmetry``, optional ``hot_spot``); ``ross_li`` (``isotropic_weight``,
+``volumetric_weight``, ``geometric_weight``); ``cox_munk`` (``wind_speed``, optional
+``refractive_index`` (real) and ``shadowing``, true or false); ``hapke``
+(``single_scattering_albedo``, optional ``asymmetry``, ``opposition_amplitude``,
+``opposition_width``, ``h_approximation``). A bidirectional surface emits with its
+directional emissivity in thermal runs.
 
 Spectral dependence of a constituent's optical depth (``spectral_dependence``): ``"none"``
 (default, grey), ``"rayleigh"`` (wavelength^-4, the Rayleigh law), or

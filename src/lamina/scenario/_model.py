@@ -59,6 +59,10 @@ class Scenario:
     view_zenith: np.ndarray | None = None
     view_azimuth: np.ndarray | None = None
     surface_albedo: float | np.ndarray = 0.0
+    #: a bidirectional surface: the lamina.surface function's name and its arguments
+    #: (numbers or one per wavelength); "lambertian" uses surface_albedo
+    surface_kind: str = "lambertian"
+    surface_parameters: Mapping[str, Any] = field(default_factory=dict)
     surface_temperature: float | None = None
     wavenumber_band: tuple[float, float] | None = None
     wavenumber: float | None = None
@@ -125,8 +129,11 @@ class Scenario:
                 1.0 if self.sun_irradiance is None else self.sun_irradiance,
                 "sun_irradiance", self.irradiance_units,
                 "stellar irradiance on a plane normal to the beam")
-        kwargs["surface_albedo"] = self._spectral_array(
-            self.surface_albedo, "surface_albedo", "1", "Lambertian surface albedo")
+        if self.surface_kind == "lambertian":
+            kwargs["surface_albedo"] = self._spectral_array(
+                self.surface_albedo, "surface_albedo", "1", "Lambertian surface albedo")
+        else:
+            kwargs["surface"] = self.build_surface()
         if self.view_zenith is not None:
             kwargs["view_zenith"] = self.view_zenith
             kwargs["view_azimuth"] = self.view_azimuth
@@ -145,6 +152,25 @@ class Scenario:
         if self.heat_capacity is not None:
             kwargs["heat_capacity"] = self.heat_capacity
         return kwargs
+
+    def build_surface(self) -> Any:
+        """The scenario's bidirectional surface (``[surface] kind``), a lamina.surface.
+
+        Per-wavelength parameters become DataArrays along the wavelength dim.
+        """
+        import lamina.surface
+
+        factory = getattr(lamina.surface, self.surface_kind)
+        arguments = {}
+        for key, value in self.surface_parameters.items():
+            if isinstance(value, bool | str):
+                arguments[key] = value
+            else:
+                arguments[key] = self._spectral_array(value, key, None, key.replace("_", " "))
+        try:
+            return factory(**arguments)
+        except ValueError as error:
+            raise ValueError(f"{self.path.name}: [surface] {error}") from None
 
     def attributes(self) -> dict[str, str]:
         """Global attributes describing the scenario, for the output file."""

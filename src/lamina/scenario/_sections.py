@@ -14,6 +14,7 @@ from typing import Any
 import numpy as np
 
 from lamina.scenario._spectral import _spectral_or_scalar
+from lamina.scenario._tables import _REQUIRED as _REQUIRED_VALUE
 from lamina.scenario._tables import ScenarioError, _Table
 
 #: Output variables a scenario's ``[output] variables`` may name (lamina.solve's outputs).
@@ -77,16 +78,60 @@ def _parse_sun_and_view(root: _Table, scenario: dict[str, Any],
             "azimuth", np.asarray([0.0]), what="degrees", low=0.0, high=360.0))
 
 
+#: ``[surface] kind`` -> the lamina.surface factory and its keys: numeric parameters (a
+#: number, or one per wavelength), switches and strings; the names are the functions'.
+SURFACE_KINDS: dict[str, dict[str, tuple[str, ...]]] = {
+    "lambertian": {"numbers": ("albedo",), "required": ()},
+    "rahman_pinty_verstraete": {"numbers": ("amplitude", "bowl_exponent", "asymmetry",
+                                            "hot_spot"),
+                                "required": ("amplitude", "bowl_exponent", "asymmetry")},
+    "ross_li": {"numbers": ("isotropic_weight", "volumetric_weight", "geometric_weight"),
+                "required": ("isotropic_weight", "volumetric_weight", "geometric_weight")},
+    "cox_munk": {"numbers": ("wind_speed", "refractive_index"), "switches": ("shadowing",),
+                 "required": ("wind_speed",)},
+    "hapke": {"numbers": ("single_scattering_albedo", "asymmetry", "opposition_amplitude",
+                          "opposition_width"), "strings": ("h_approximation",),
+              "required": ("single_scattering_albedo",)},
+}
+
+
 def _parse_surface(root: _Table, scenario: dict[str, Any], n_wavelengths: int | None) -> None:
-    """``[surface]``: the Lambertian albedo and (thermal runs) the surface temperature."""
+    """``[surface]``: its kind and parameters, and (thermal runs) the surface temperature.
+
+    ``kind = "lambertian"`` (the default) keeps ``albedo`` as ``surface_albedo``; any other
+    kind becomes ``surface_kind`` and ``surface_parameters``, from which
+    :meth:`Scenario.solve_kwargs` builds the lamina.surface object (whose own checks name
+    a parameter out of its published range).
+    """
     surface = _section(root, "surface")
-    surface.check_keys(["albedo", "temperature"])
-    scenario["surface_albedo"] = _spectral_or_scalar(
-        surface, "albedo", np.asarray(0.0), n_wavelengths, what="an albedo", low=0.0, high=1.0)
+    kind = surface.string("kind", "lambertian", choices=tuple(SURFACE_KINDS))
+    keys = SURFACE_KINDS[kind]
+    numbers = keys["numbers"]
+    switches = keys.get("switches", ())
+    strings = keys.get("strings", ())
+    surface.check_keys(["kind", *numbers, *switches, *strings, "temperature"])
     if surface.has("temperature"):
         scenario["surface_temperature"] = float(surface.numbers(
             "temperature", what="a temperature in K", low=0.0, low_open=True, vector=False,
             quantity="temperature"))
+    if kind == "lambertian":
+        scenario["surface_albedo"] = _spectral_or_scalar(
+            surface, "albedo", np.asarray(0.0), n_wavelengths, what="an albedo", low=0.0,
+            high=1.0)
+        return
+    parameters: dict[str, Any] = {}
+    for key in numbers:
+        if surface.has(key) or key in keys["required"]:
+            parameters[key] = _spectral_or_scalar(surface, key, _REQUIRED_VALUE, n_wavelengths,
+                                                  what=f"the {kind} {key.replace('_', ' ')}")
+    for key in switches:
+        if surface.has(key):
+            parameters[key] = surface.boolean(key)
+    for key in strings:
+        if surface.has(key):
+            parameters[key] = surface.string(key)
+    scenario["surface_kind"] = kind
+    scenario["surface_parameters"] = parameters
 
 
 def _parse_thermal(root: _Table, scenario: dict[str, Any], spectral: bool) -> None:

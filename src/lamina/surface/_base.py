@@ -281,21 +281,36 @@ class Surface:
             raise ValueError(f"n_terms must be at least 1; got {n_terms}")
         mu_in = _cosines(incident_cosines, "incident_cosines")
         mu_out = _cosines(reflected_cosines, "reflected_cosines")
-        # 32 panels converge the smooth models' terms to about 1e-13 (measured)
-        panels = max(azimuth_panels or max(self._azimuth_panels, 32), n_terms // 2 + 4)
-        phi, wphi = azimuth_quadrature(panels)
-        basis = np.cos(np.arange(n_terms)[:, None] * phi[None, :]) * wphi / np.pi  # (m, phi)
-        geometry = (mu_in[None, :, None], mu_out[:, None, None], np.cos(phi)[None, None, :])
+        panels = self._fourier_panels(n_terms, azimuth_panels)
 
         def work(values: dict[str, np.ndarray]) -> np.ndarray:
-            expand = {k: v[..., None, None, None] for k, v in values.items()}
-            f = self._evaluate(expand, Geometry(*geometry))  # (..., out, in, phi)
-            return np.einsum("...oip,mp->...moi", f, basis)
+            return self._fourier_values(values, mu_out, mu_in, n_terms, azimuth_panels)
 
-        size = mu_in.size * mu_out.size * phi.size
+        size = mu_in.size * mu_out.size * panels * 8
         dims = ("fourier_term", "reflected", "incident")
         coords = {"reflected": mu_out, "incident": mu_in}
         return self._blocked(work, size, dims, (n_terms, mu_out.size, mu_in.size), coords)
+
+    def _fourier_panels(self, n_terms: int, azimuth_panels: int | None = None) -> int:
+        # 32 panels converge the smooth models' terms to about 1e-13 (measured)
+        return max(azimuth_panels or max(self._azimuth_panels, 32), n_terms // 2 + 4)
+
+    def _fourier_values(self, values: dict[str, np.ndarray], reflected: np.ndarray,
+                        incident: np.ndarray, n_terms: int,
+                        azimuth_panels: int | None = None) -> np.ndarray:
+        """Fourier terms f_m as numpy, (..., term, reflected, incident).
+
+        ``values`` are parameter arrays of shape (...); ``reflected`` (..., R) and
+        ``incident`` (..., I) cosines broadcast against them (a 1-d array serves every
+        point). The rule of `fourier_terms`; the solver calls this on its own cosines.
+        """
+        phi, wphi = azimuth_quadrature(self._fourier_panels(n_terms, azimuth_panels))
+        basis = np.cos(np.arange(n_terms)[:, None] * phi[None, :]) * wphi / np.pi  # (m, phi)
+        expand = {k: v[..., None, None, None] for k, v in values.items()}
+        geometry = Geometry(incident[..., None, :, None], reflected[..., :, None, None],
+                            np.cos(phi))
+        f = self._evaluate(expand, geometry)  # (..., out, in, phi)
+        return np.einsum("...oip,mp->...moi", f, basis)
 
     def check_energy(self, sun_zenith: Any = CHECK_SUN_ZENITH) -> None:
         """Raise ValueError if the directional albedo leaves [0, 1] at some sun zenith."""
