@@ -282,7 +282,9 @@ cdef void fluxes(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Grid *gr, doubl
         dt1 = gr.position_fraction[p] * cl.tau[layer]
         dt2 = cl.tau[layer] - dt1
         at_top = layer == 0 and gr.position_fraction[p] == 0.0
-        at_bottom = layer == sz.nlayer - 1 and gr.position_fraction[p] == 1.0
+        # (the Lambertian surface's condition; a bidirectional one keeps the solution's value)
+        at_bottom = (layer == sz.nlayer - 1 and gr.position_fraction[p] == 1.0
+                     and not cl.bidirectional)
         for i in range(n):
             sc.e1[i] = exp(-ly.k[layer * n + i] * dt1)
             sc.e2[i] = exp(-ly.k[layer * n + i] * dt2)
