@@ -352,6 +352,32 @@ def _interval_nodes(n_intervals_width: float, n_moments: int) -> int:
     return 12 + int(np.ceil(0.5 * (n_moments + 1) * n_intervals_width))
 
 
+def _check_angles(angle_deg: ArrayLike) -> np.ndarray:
+    """A 1-D strictly increasing table of angles from 0 to 180 degrees (ends snapped).
+
+    Ends that miss 0 or 180 by round-off (e.g. converted from radians) are snapped.
+    """
+    angle = _as_real_array("angle_deg", angle_deg)
+    if angle.ndim != 1 or angle.size < 2:
+        raise ValueError(
+            f"angle_deg must be a 1-D array of at least 2 angles; got shape {angle.shape}"
+        )
+    steps = np.diff(angle)
+    if not np.all(steps > 0.0):
+        index = int(np.argmax(steps <= 0.0)) + 1
+        raise ValueError(
+            f"angle_deg must be strictly increasing; angle_deg[{index}] = {angle[index]:g} "
+            f"follows {angle[index - 1]:g}"
+        )
+    if abs(angle[0]) > _ANGLE_END_TOLERANCE or abs(angle[-1] - 180.0) > _ANGLE_END_TOLERANCE:
+        raise ValueError(
+            f"angle_deg must span 0 to 180 degrees exactly; got {angle[0]:g} to {angle[-1]:g}"
+        )
+    angle = angle.copy()
+    angle[0], angle[-1] = 0.0, 180.0
+    return angle
+
+
 def from_tabulated(
     angle_deg: ArrayLike,
     values: ArrayLike,
@@ -425,25 +451,7 @@ def from_tabulated(
     if not tolerance > 0.0:
         raise ValueError(f"normalization_tolerance must be > 0; got {tolerance:g}")
 
-    angle = _as_real_array("angle_deg", angle_deg)
-    if angle.ndim != 1 or angle.size < 2:
-        raise ValueError(
-            f"angle_deg must be a 1-D array of at least 2 angles; got shape {angle.shape}"
-        )
-    steps = np.diff(angle)
-    if not np.all(steps > 0.0):
-        index = int(np.argmax(steps <= 0.0)) + 1
-        raise ValueError(
-            f"angle_deg must be strictly increasing; angle_deg[{index}] = {angle[index]:g} "
-            f"follows {angle[index - 1]:g}"
-        )
-    if abs(angle[0]) > _ANGLE_END_TOLERANCE or abs(angle[-1] - 180.0) > _ANGLE_END_TOLERANCE:
-        raise ValueError(
-            f"angle_deg must span 0 to 180 degrees exactly; got {angle[0]:g} to {angle[-1]:g}"
-        )
-    # Snap ends that missed 0 or 180 by round-off (e.g. converted from radians).
-    angle = angle.copy()
-    angle[0], angle[-1] = 0.0, 180.0
+    angle = _check_angles(angle_deg)
     table = _as_real_array("values", values)
     if table.ndim == 0 or table.shape[-1] != angle.size:
         raise ValueError(

@@ -67,10 +67,10 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from lamina.phase import (
-    _ANGLE_END_TOLERANCE,
     SCATTERING_MATRIX_ELEMENTS,
     TABULATED_NORMALIZATION_TOLERANCE,
     _as_real_array,
+    _check_angles,
     _check_count,
     _check_interval,
     _index_text,
@@ -280,29 +280,6 @@ def matrix_from_expansion(
         f34=series(zero_two, beta2),
         f44=series(legendre, alpha4),
     )
-
-
-def _check_angles(angle_deg: ArrayLike) -> np.ndarray:
-    """A 1-D strictly increasing table of angles from 0 to 180 degrees (ends snapped)."""
-    angle = _as_real_array("angle_deg", angle_deg)
-    if angle.ndim != 1 or angle.size < 2:
-        raise ValueError(
-            f"angle_deg must be a 1-D array of at least 2 angles; got shape {angle.shape}"
-        )
-    steps = np.diff(angle)
-    if not np.all(steps > 0.0):
-        index = int(np.argmax(steps <= 0.0)) + 1
-        raise ValueError(
-            f"angle_deg must be strictly increasing; angle_deg[{index}] = {angle[index]:g} "
-            f"follows {angle[index - 1]:g}"
-        )
-    if abs(angle[0]) > _ANGLE_END_TOLERANCE or abs(angle[-1] - 180.0) > _ANGLE_END_TOLERANCE:
-        raise ValueError(
-            f"angle_deg must span 0 to 180 degrees exactly; got {angle[0]:g} to {angle[-1]:g}"
-        )
-    angle = angle.copy()
-    angle[0], angle[-1] = 0.0, 180.0
-    return angle
 
 
 def _interpolated(
