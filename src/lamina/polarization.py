@@ -453,7 +453,7 @@ def polarized_excess(
     every 0.25 degrees; an element counts as exceeding F11 where
     ``|F_ij| > F11 + tolerance * max(F11)``. The default tolerance, 1e-3, lets through the
     truncation error of series cut where the scalar phase function is still positive: for
-    spheres F22 = F11 and |F33| = |F44| = F11 at 0 and 180 degrees exactly, so their cut
+    spheres ``F22 = F11`` and ``|F33| = |F44| = F11`` at 0 and 180 degrees exactly, so their cut
     series cross F11 by about the size of the last terms (1e-5 to 1e-3 of max(F11) for Mie
     distributions given 12 to 128 moments); a matrix with a wrong sign or normalisation
     exceeds F11 by far more.
