@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+import xarray as xr
 
 import lamina
 
@@ -70,14 +71,24 @@ def test_no_atmosphere_reflects_s_mu0_brdf_exactly(surface):
     assert np.all(out.radiance.sel(direction="down").values == 0.0)
 
 
-def test_reflection_function_of_atmosphere_and_surface_is_reciprocal():
+@pytest.mark.parametrize("surface", [
+    rpv(),
+    S.ross_li(0.1, 0.06, 0.02),
+    S.hapke(0.6, -0.2, 0.8, 0.06),
+    S.cox_munk(6.0),
+    0.6 * S.cox_munk(2.0) + 0.4 * S.ross_li(0.05, 0.02, 0.01),
+], ids=["rpv", "ross_li", "hapke", "glint", "mixture"])
+def test_reflection_function_of_atmosphere_and_surface_is_reciprocal(surface):
     # Chandrasekhar (1950), Radiative Transfer, the principle of reciprocity: the reflection
     # function rho = pi I / (mu0 S) of a plane-parallel medium over a reciprocal surface is
-    # symmetric in (mu, mu0) at fixed relative azimuth. RPV is reciprocal (Rahman et al.
-    # 1993); the view and sun angles are the same set, none of them a quadrature cosine.
+    # symmetric in (mu, mu0) at fixed relative azimuth. Each model is reciprocal: RPV
+    # (Rahman et al. 1993), the Ross-thick and Li-sparse reciprocal kernels (Lucht et al.
+    # 2000), Hapke's (Hapke 1993: H(mu) H(mu0) and a phase-angle opposition term), Cox-Munk
+    # with its shadowing factor symmetric in the two directions, and sums of them. The view
+    # and sun angles are the same set, none of them a quadrature cosine.
     atm = lamina.make_atmosphere([0.2, 0.5], [0.95, 0.8], np.stack([hg(0.6, 128), hg(0.1, 128)]))
     angles = [20.0, 40.0, 60.0, 75.0]
-    out = lamina.solve(atm, streams=16, sun_zenith=angles, surface=rpv(),
+    out = lamina.solve(atm, streams=16, sun_zenith=angles, surface=surface,
                        view_zenith=angles, view_azimuth=[30.0, 120.0, 180.0])
     radiance = out.radiance.sel(direction="up").isel(level=0).values   # (sun, view, phi)
     rho = np.pi * radiance / np.cos(np.radians(angles))[:, None, None]
@@ -212,3 +223,49 @@ def test_scenario_surface_kinds(tmp_path):
     file.write_text(text + 'kind = "cox_munk"\nwind_speed = -1.0\n')
     with pytest.raises(ValueError, match="wind_speed"):
         load_scenario(file).solve_kwargs()
+
+
+def test_scenario_weighted_sum_of_surfaces(tmp_path):
+    # [[surface.component]] tables give lamina.surface.weighted_sum of their surfaces: the
+    # BRDF built from the file equals the Python sum of the same models (per wavelength
+    # weights allowed), and the solve over it equals the solve over the Python sum
+    from lamina.scenario import ScenarioError, load_scenario
+
+    head = ('[spectrum]\nwavelength = {values = [0.55, 0.86], units = "um"}\n'
+            '[atmosphere]\noptical_depth = [0.1]\nsingle_scattering_albedo = 0.9\n'
+            'phase = {kind = "isotropic"}\n[sun]\nzenith = 30.0\n'
+            '[view]\nzenith = [0, 40]\nazimuth = [0, 180]\n[surface]\n')
+    coast = ('[[surface.component]]\nweight = [0.7, 0.6]\nkind = "cox_munk"\nwind_speed = 5.0\n'
+             '[[surface.component]]\nweight = [0.3, 0.4]\nkind = "lambertian"\n'
+             'albedo = [0.1, 0.3]\n')
+    file = tmp_path / "coast.toml"
+    file.write_text(head + coast)
+    scenario = load_scenario(file)
+    surface = scenario.solve_kwargs()["surface"]
+    for index, (weight_sea, weight_land, albedo) in enumerate([(0.7, 0.3, 0.1),
+                                                                (0.6, 0.4, 0.3)]):
+        python_sum = weight_sea * S.cox_munk(5.0) + weight_land * S.lambertian(albedo)
+        assert np.allclose(surface.brdf(30.0, [0.0, 40.0], 180.0).isel(wavelength=index),
+                           python_sum.brdf(30.0, [0.0, 40.0], 180.0), rtol=1e-14)
+    kwargs = scenario.solve_kwargs()
+    from_file = lamina.solve(scenario.build_atmosphere(), **kwargs)
+    wavelength = from_file.wavelength
+    weights = [xr.DataArray(w, dims="wavelength", coords={"wavelength": wavelength})
+               for w in ([0.7, 0.6], [0.3, 0.4])]
+    albedo = xr.DataArray([0.1, 0.3], dims="wavelength", coords={"wavelength": wavelength})
+    kwargs["surface"] = S.weighted_sum([(weights[0], S.cox_munk(5.0)),
+                                        (weights[1], S.lambertian(albedo))])
+    by_hand = lamina.solve(scenario.build_atmosphere(), **kwargs)
+    np.testing.assert_allclose(from_file.radiance, by_hand.radiance, rtol=1e-13, atol=0)
+    # errors name the component and the key
+    file.write_text(head + '[[surface.component]]\nkind = "cox_munk"\nwind_speed = 5.0\n')
+    with pytest.raises(ScenarioError, match=r"component #1\] missing required key 'weight'"):
+        load_scenario(file)
+    file.write_text(head + '[[surface.component]]\nweight = -0.5\nkind = "lambertian"\n'
+                    'albedo = 0.2\n')
+    with pytest.raises(ScenarioError, match=r"component #1\] weight: expected a non-negative"):
+        load_scenario(file)
+    file.write_text(head + 'kind = "cox_munk"\nwind_speed = 5.0\n[[surface.component]]\n'
+                    'weight = 1.0\nkind = "lambertian"\n')
+    with pytest.raises(ScenarioError, match="unknown key 'kind'"):
+        load_scenario(file)

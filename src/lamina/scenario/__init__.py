@@ -114,7 +114,20 @@ list with one value per wavelength: ``rahman_pinty_verstraete`` (``amplitude``,
 ``refractive_index`` (real) and ``shadowing``, true or false); ``hapke``
 (``single_scattering_albedo``, optional ``asymmetry``, ``opposition_amplitude``,
 ``opposition_width``, ``h_approximation``). A bidirectional surface emits with its
-directional emissivity in thermal runs.
+directional emissivity in thermal runs. A weighted sum of surfaces (an areal mixture, say a
+coastal pixel) is given as ``[[surface.component]]`` tables, each with a ``weight`` (a
+number, or one per wavelength) and a ``kind`` with that kind's keys; it is
+:func:`lamina.surface.weighted_sum` of them::
+
+    [[surface.component]]
+    weight = 0.7
+    kind = "cox_munk"
+    wind_speed = 5.0
+
+    [[surface.component]]
+    weight = 0.3
+    kind = "lambertian"
+    albedo = 0.2
 
 Spectral dependence of a constituent's optical depth (``spectral_dependence``): ``"none"``
 (default, grey), ``"rayleigh"`` (wavelength^-4, the Rayleigh law), or

@@ -156,21 +156,31 @@ class Scenario:
     def build_surface(self) -> Any:
         """The scenario's bidirectional surface (``[surface] kind``), a lamina.surface.
 
-        Per-wavelength parameters become DataArrays along the wavelength dim.
+        Per-wavelength parameters become DataArrays along the wavelength dim; the
+        ``[[surface.component]]`` tables of a weighted sum become its terms.
         """
         import lamina.surface
 
-        factory = getattr(lamina.surface, self.surface_kind)
+        try:
+            if self.surface_kind != "weighted_sum":
+                return self._surface_of(self.surface_kind, self.surface_parameters)
+            return lamina.surface.weighted_sum(
+                (self._spectral_array(part["weight"], "weight", None, "weight"),
+                 self._surface_of(part["kind"], part["parameters"]))
+                for part in self.surface_parameters["components"])
+        except ValueError as error:
+            raise ValueError(f"{self.path.name}: [surface] {error}") from None
+
+    def _surface_of(self, kind: str, parameters: Mapping[str, Any]) -> Any:
+        import lamina.surface
+
         arguments = {}
-        for key, value in self.surface_parameters.items():
+        for key, value in parameters.items():
             if isinstance(value, bool | str):
                 arguments[key] = value
             else:
                 arguments[key] = self._spectral_array(value, key, None, key.replace("_", " "))
-        try:
-            return factory(**arguments)
-        except ValueError as error:
-            raise ValueError(f"{self.path.name}: [surface] {error}") from None
+        return getattr(lamina.surface, kind)(**arguments)
 
     def attributes(self) -> dict[str, str]:
         """Global attributes describing the scenario, for the output file."""

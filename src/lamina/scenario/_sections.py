@@ -9,6 +9,7 @@ its fields.
 from __future__ import annotations
 
 import difflib
+from collections.abc import Mapping
 from typing import Any
 
 import numpy as np
@@ -101,37 +102,72 @@ def _parse_surface(root: _Table, scenario: dict[str, Any], n_wavelengths: int | 
     ``kind = "lambertian"`` (the default) keeps ``albedo`` as ``surface_albedo``; any other
     kind becomes ``surface_kind`` and ``surface_parameters``, from which
     :meth:`Scenario.solve_kwargs` builds the lamina.surface object (whose own checks name
-    a parameter out of its published range).
+    a parameter out of its published range). ``[[surface.component]]`` tables, each a
+    ``weight`` and a kind with its keys, make the weighted sum of those surfaces
+    (``surface_kind = "weighted_sum"``).
     """
     surface = _section(root, "surface")
-    kind = surface.string("kind", "lambertian", choices=tuple(SURFACE_KINDS))
-    keys = SURFACE_KINDS[kind]
-    numbers = keys["numbers"]
-    switches = keys.get("switches", ())
-    strings = keys.get("strings", ())
-    surface.check_keys(["kind", *numbers, *switches, *strings, "temperature"])
     if surface.has("temperature"):
         scenario["surface_temperature"] = float(surface.numbers(
             "temperature", what="a temperature in K", low=0.0, low_open=True, vector=False,
             quantity="temperature"))
-    if kind == "lambertian":
-        scenario["surface_albedo"] = _spectral_or_scalar(
-            surface, "albedo", np.asarray(0.0), n_wavelengths, what="an albedo", low=0.0,
-            high=1.0)
+    if surface.has("component"):
+        surface.check_keys(["component", "temperature"])
+        scenario["surface_kind"] = "weighted_sum"
+        scenario["surface_parameters"] = {
+            "components": _surface_components(surface, n_wavelengths)}
         return
-    parameters: dict[str, Any] = {}
-    for key in numbers:
-        if surface.has(key) or key in keys["required"]:
-            parameters[key] = _spectral_or_scalar(surface, key, _REQUIRED_VALUE, n_wavelengths,
-                                                  what=f"the {kind} {key.replace('_', ' ')}")
-    for key in switches:
-        if surface.has(key):
-            parameters[key] = surface.boolean(key)
-    for key in strings:
-        if surface.has(key):
-            parameters[key] = surface.string(key)
+    kind, parameters = _surface_kind(surface, n_wavelengths, extra_keys=("temperature",))
+    if kind == "lambertian":
+        scenario["surface_albedo"] = parameters["albedo"]
+        return
     scenario["surface_kind"] = kind
     scenario["surface_parameters"] = parameters
+
+
+def _surface_kind(table: _Table, n_wavelengths: int | None,
+                  extra_keys: tuple[str, ...] = ()) -> tuple[str, dict[str, Any]]:
+    """A table's surface ``kind`` and the arguments of its lamina.surface function."""
+    kind = table.string("kind", "lambertian", choices=tuple(SURFACE_KINDS))
+    keys = SURFACE_KINDS[kind]
+    numbers = keys["numbers"]
+    switches = keys.get("switches", ())
+    strings = keys.get("strings", ())
+    table.check_keys(["kind", *numbers, *switches, *strings, *extra_keys])
+    if kind == "lambertian":
+        return kind, {"albedo": _spectral_or_scalar(
+            table, "albedo", np.asarray(0.0), n_wavelengths, what="an albedo", low=0.0,
+            high=1.0)}
+    parameters: dict[str, Any] = {}
+    for key in numbers:
+        if table.has(key) or key in keys["required"]:
+            parameters[key] = _spectral_or_scalar(table, key, _REQUIRED_VALUE, n_wavelengths,
+                                                  what=f"the {kind} {key.replace('_', ' ')}")
+    for key in switches:
+        if table.has(key):
+            parameters[key] = table.boolean(key)
+    for key in strings:
+        if table.has(key):
+            parameters[key] = table.string(key)
+    return kind, parameters
+
+
+def _surface_components(surface: _Table, n_wavelengths: int | None) -> tuple[dict, ...]:
+    """``[[surface.component]]``: (weight, kind, parameters) of each term of a weighted sum."""
+    items = surface.raw("component")
+    if not isinstance(items, list) or not items or not all(
+            isinstance(item, Mapping) for item in items):
+        raise surface.error("component", "one or more [[surface.component]] tables", items)
+    components = []
+    for number, item in enumerate(items, start=1):
+        table = _Table(surface.file, f"[surface.component #{number}]",
+                       {key: value for key, value in item.items() if key != "weight"})
+        weight = _spectral_or_scalar(_Table(surface.file, table.label, item), "weight",
+                                     _REQUIRED_VALUE, n_wavelengths,
+                                     what="a non-negative weight", low=0.0)
+        kind, parameters = _surface_kind(table, n_wavelengths)
+        components.append({"weight": weight, "kind": kind, "parameters": parameters})
+    return tuple(components)
 
 
 def _parse_thermal(root: _Table, scenario: dict[str, Any], spectral: bool) -> None:
