@@ -116,9 +116,7 @@ def _single_scattering_correction(block: Block, layers: Layers, positions: Posit
     albedo_s, moments_s = layers.single_scattering_albedo, layers.phase_moments
     mu0 = block.beam_cosines
     ncol, nsun = mu0.shape
-    cosine = scattering_cosines(mu0, views)                     # (col, sun, 2, vz, va)
-    shape = cosine.shape[1:]
-    flat = cosine.reshape(ncol, 1, -1)
+    shape = (nsun, 2, views.cosines.size, views.azimuth_radians.size)
     # the correction is linear in w P of each layer: one contraction of the difference of
     # the weighted moments, w_exact chi_l (every moment) - w' chi'_l (the truncated ones)
     remaining = 1.0 - albedo * layers.truncation
@@ -129,7 +127,8 @@ def _single_scattering_correction(block: Block, layers: Layers, positions: Posit
     difference = np.zeros((ncol, moments.shape[1], terms))
     difference[..., :moments.shape[-1]] = albedo_exact[..., None] * moments
     difference[..., :moments_s.shape[-1]] -= albedo_s[..., None] * moments_s
-    table = phase.legendre_polynomials(flat[:, 0, :], terms)
+    table = _per_distinct_suns(mu0, lambda cos0: phase.legendre_polynomials(
+        scattering_cosines(cos0, views).reshape(cos0.shape[0], -1), terms))
     weighted_phase = _contract(difference, table).reshape(ncol, moments.shape[1], *shape)
     correction = np.zeros((ncol, nsun, positions.layer.size, 2, *shape[2:]))
     tau_s = layers.optical_depth
@@ -190,12 +189,12 @@ def _aureole_correction(block: Block, truncation: np.ndarray, positions: Positio
                     - x * np.exp(total - attenuation))
     coefficients *= irradiance[:, :, None, None] / (4.0 * np.pi)
     # scattering angle of each downward view direction from the beam
-    cosine = scattering_cosines(mu0, views)[:, :, 1]                      # (col, sun, vz, va)
     terms = coefficients.shape[-1]
-    table = phase.legendre_polynomials(cosine.reshape(*cosine.shape[:2], -1), terms)
+    table = _per_distinct_suns(mu0, lambda cos0: phase.legendre_polynomials(
+        scattering_cosines(cos0, views)[:, :, 1].reshape(*cos0.shape, -1), terms))
     weighted = coefficients * (2.0 * np.arange(terms) + 1.0)
     summed = np.einsum("cspl,cskl->cspk", weighted, table, optimize=False)
-    return summed.reshape(*summed.shape[:3], *cosine.shape[2:])
+    return summed.reshape(*summed.shape[:3], views.cosines.size, views.azimuth_radians.size)
 
 
 def _spherical_peak_paths(block: Block, weighted_peak: np.ndarray, positions: Positions
@@ -219,6 +218,21 @@ def _spherical_peak_paths(block: Block, weighted_peak: np.ndarray, positions: Po
     depth = slant_at_positions(slant, cosine, tau, positions)[..., None]
     x = np.where(np.isfinite(depth), x, 0.0)
     return x, depth
+
+
+def _per_distinct_suns(mu0: np.ndarray, table) -> np.ndarray:
+    """``table(mu0)`` computed once per distinct row of mu0 (column, sun), then gathered.
+
+    Columns that share their sun angles (the wavelengths of a spectrum) share every table
+    of the scattering angle; the values are those of the direct computation.
+    """
+    distinct, inverse = np.unique(mu0, axis=0, return_inverse=True)
+    if distinct.shape[0] == mu0.shape[0]:
+        return table(mu0)
+    values = table(distinct)
+    if distinct.shape[0] == 1:      # a read-only view: no copy per column
+        return np.broadcast_to(values, (mu0.shape[0], *values.shape[1:]))
+    return values[np.reshape(inverse, -1)]
 
 
 def _contract(moments: np.ndarray, table: np.ndarray) -> np.ndarray:
