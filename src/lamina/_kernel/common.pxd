@@ -140,8 +140,9 @@ cdef struct Scratch:
     lapack_int ldab
     lapack_int kl
     double *mu0e      # [sun] mu0 used for this Fourier term (resonance shift)
-    double *mu0l      # [layer][sun] the beam's cosine in each layer, this term (the
-                      # attenuation rate of its source: mu0e, or the pseudo-spherical one)
+    # [layer][sun] the beam's cosine in each layer for this term (the attenuation rate of its
+    # source: mu0e, or the pseudo-spherical layer's own)
+    double *mu0l
     double *surfbeam  # [sun] the surface's reflection of the direct beam, this term
     double *refl      # [n] surface reflection weights of this term (boundary.surface_reflection)
     # a bidirectional surface, this term (boundary.surface_reflection)
