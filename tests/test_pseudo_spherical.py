@@ -309,3 +309,19 @@ def test_sun_below_the_horizon_everywhere():
     # without a planet the sun must stand above the horizon
     with pytest.raises(ValueError, match="sun_zenith"):
         lamina.solve(atm, streams=4, sun_zenith=95.0)
+
+
+def test_a_bidirectional_ground_at_and_beyond_the_horizon():
+    # at 90 degrees and beyond the ground is unlit: a bidirectional surface reflects only
+    # diffuse light, and a Lambertian surface_albedo equal to its (constant) albedo gives
+    # the same field (lamina.surface.lambertian's BRDF is A / pi)
+    atm = layered(TAU, ALBEDO, ALTITUDE, g=0.5)
+    options = dict(streams=8, sun_zenith=[88.0, 90.0, 93.0], planet_radius=EARTH_RADIUS,
+                   view_zenith=[0.0, 50.0], view_azimuth=[0.0, 180.0])
+    brdf = lamina.solve(atm, surface=lamina.surface.lambertian(0.3), **options)
+    lambert = lamina.solve(atm, surface_albedo=0.3, **options)
+    for name in ("flux_up", "flux_down_diffuse", "radiance"):
+        np.testing.assert_allclose(brdf[name].values, lambert[name].values, rtol=1e-9,
+                                   atol=1e-14)
+    # (cos 90 degrees is 6e-17 in floating point)
+    assert np.all(np.abs(brdf.flux_down_direct.isel(level=-1).values[1:]) < 1e-30)
