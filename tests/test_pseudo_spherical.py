@@ -269,12 +269,25 @@ def test_hypsometric_altitudes_of_an_isothermal_atmosphere():
 
 
 def test_planet_radius_with_units_and_per_column():
-    atm = layered(TAU, ALBEDO, ALTITUDE)
     import xarray as xr
+
+    atm = layered(TAU, ALBEDO, ALTITUDE)
     in_km = xr.DataArray(EARTH_RADIUS / 1e3, attrs={"units": "km"})
     a = lamina.solve(atm, streams=4, sun_zenith=85.0, planet_radius=EARTH_RADIUS)
     b = lamina.solve(atm, streams=4, sun_zenith=85.0, planet_radius=in_km)
     np.testing.assert_array_equal(a.flux_down_direct.values, b.flux_down_direct.values)
+    # one radius per column: each column as if solved alone
+    columns = lamina.make_atmosphere(np.stack([TAU, TAU]), np.stack([ALBEDO, ALBEDO]), [1.0],
+                                     altitude=ALTITUDE, extra_dims=["column"])
+    radii = xr.DataArray([EARTH_RADIUS, 3.3895e6], dims="column")
+    both = lamina.solve(columns, streams=4, sun_zenith=85.0, planet_radius=radii)
+    for column in range(2):
+        alone = lamina.solve(columns.isel(column=column), streams=4, sun_zenith=85.0,
+                             planet_radius=float(radii[column]))
+        np.testing.assert_array_equal(both.flux_down_direct.isel(column=column).values,
+                                      alone.flux_down_direct.values)
+    assert not np.allclose(both.flux_down_direct.isel(column=0),
+                           both.flux_down_direct.isel(column=1))
 
 
 @pytest.mark.parametrize("radius", [0.0, -1.0, np.inf, np.nan])
