@@ -185,15 +185,28 @@ def prepare_block(
 
 
 def _beam_paths(radius: np.ndarray, zenith: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Air-mass factors (column, sun, level, layer) and where the beam reaches a level."""
-    factors, reaches = air_mass_factors(radius, zenith)
+    """Air-mass factors (column, sun, level, layer) and where the beam reaches a level.
+
+    Computed once per distinct pair of level radii and sun angles (the wavelengths of a
+    spectrum share them) and broadcast to the block's columns (read-only views).
+    """
+    keys = np.concatenate([radius[:, 0, :], zenith], axis=1)
+    distinct, inverse = np.unique(keys, axis=0, return_inverse=True)
+    inverse = np.reshape(inverse, -1)
+    nlevel = radius.shape[-1]
+    factors, reaches = air_mass_factors(distinct[:, None, :nlevel], distinct[:, nlevel:])
+    if distinct.shape[0] == 1:
+        factors = np.broadcast_to(factors, (zenith.shape[0], *factors.shape[1:]))
+        reaches = np.broadcast_to(reaches, (zenith.shape[0], *reaches.shape[1:]))
+    else:
+        factors, reaches = factors[inverse], reaches[inverse]
     dark = ~np.any(reaches, axis=-1)
     if np.any(dark):
         column, sun = np.argwhere(dark)[0]
         raise ValueError(
             f"sun_zenith: the sun is below the horizon at every level (column {column}, sun "
             f"angle {sun}: {zenith[column, sun]:g} degrees); the beam reaches no level")
-    return np.ascontiguousarray(factors), reaches
+    return factors, reaches
 
 
 def _surface_columns(surface: tuple[np.ndarray, ...], lead: tuple[int, ...],
