@@ -301,6 +301,11 @@ def test_bad_altitudes():
     atm = layered(TAU, ALBEDO, ALTITUDE[::-1])
     with pytest.raises(ValueError, match="altitude must decrease strictly downward"):
         lamina.solve(atm, streams=4, sun_zenith=30.0, planet_radius=EARTH_RADIUS)
+    # lazily given altitudes are checked when the blocks are prepared
+    lazy = atm.chunk({"level": -1})
+    with pytest.raises(ValueError, match="altitude .as planet_radius . altitude.: radius "
+                                         "must decrease strictly downward"):
+        lamina.solve(lazy, streams=4, sun_zenith=30.0, planet_radius=EARTH_RADIUS).compute()
     flat = lamina.make_atmosphere(TAU, ALBEDO, [1.0])
     with pytest.raises(ValueError, match="altitude: planet_radius needs level altitudes"):
         lamina.solve(flat, streams=4, sun_zenith=30.0, planet_radius=EARTH_RADIUS)

@@ -194,7 +194,10 @@ def _beam_paths(radius: np.ndarray, zenith: np.ndarray) -> tuple[np.ndarray, np.
     distinct, inverse = np.unique(keys, axis=0, return_inverse=True)
     inverse = np.reshape(inverse, -1)
     nlevel = radius.shape[-1]
-    factors, reaches = air_mass_factors(distinct[:, None, :nlevel], distinct[:, nlevel:])
+    try:
+        factors, reaches = air_mass_factors(distinct[:, None, :nlevel], distinct[:, nlevel:])
+    except ValueError as error:   # lazily given altitudes are first seen here
+        raise ValueError(f"altitude (as planet_radius + altitude): {error}") from None
     if distinct.shape[0] == 1:
         factors = np.broadcast_to(factors, (zenith.shape[0], *factors.shape[1:]))
         reaches = np.broadcast_to(reaches, (zenith.shape[0], *reaches.shape[1:]))
