@@ -61,6 +61,7 @@ PUBLIC_MODULES = [
     "lamina.io",
     "lamina.plotting",
     "lamina.validation",
+    "lamina.spherical",
 ]
 UPCOMING_MODULES = ["lamina.surface", "lamina.planet", "lamina.polarization"]
 

@@ -159,8 +159,18 @@ def test_demo_then_plot(tmp_path, capsys):
     assert out.startswith("lamina demo: Tessaly (fictional planet)")
     assert "albedo at the top:" in out and "surface: down" in out
     assert sorted(p.name for p in folder.iterdir()) == [
-        "demo.nc", "flux_profiles.png", "heating_rate.png", "mean_intensity.png",
-        "radiance.png", "spectrum.png"]
+        "albedo_spectrum.png", "demo.nc", "flux_profiles.png", "heating_rate.png",
+        "mean_intensity.png", "phase_curve.png", "planet.nc", "radiance.png", "spectrum.png"]
+    assert "the planet seen whole" in out and "Bond albedo" in out
+    with xr.open_dataset(folder / "planet.nc") as planet:
+        planet.load()
+    # the disk-integrated reflectance at phase 0 is the geometric albedo (by definition),
+    # and every albedo of a reflecting planet lies in (0, 1)
+    np.testing.assert_allclose(planet.reflectance.sel(phase_angle=0.0),
+                               planet.geometric_albedo, rtol=1e-12)
+    for name in ("geometric_albedo", "spherical_albedo", "bond_albedo"):
+        assert 0.0 < float(planet[name].min()) and float(planet[name].max()) < 1.0
+    assert planet.reflectance.sizes["wavelength"] == result_sizes(folder)["wavelength"]
     with xr.open_dataset(folder / "demo.nc") as result:
         result.load()
     assert {"wavelength", "sun_zenith", "view_zenith", "view_azimuth"} <= set(result.dims)
@@ -176,6 +186,11 @@ def test_demo_then_plot(tmp_path, capsys):
     assert sorted(p.name for p in tmp_path.glob("*.png")) == [
         "demo_flux_profiles.png", "demo_heating_rate.png", "demo_mean_intensity.png",
         "demo_radiance.png", "demo_spectrum.png"]
+
+
+def result_sizes(folder):
+    with xr.open_dataset(folder / "demo.nc") as result:
+        return dict(result.sizes)
 
 
 def test_demo_refuses_a_missing_parent(tmp_path, capsys):

@@ -178,8 +178,8 @@ def test_disk_nodes_cover_the_lit_and_visible_disk():
         ({"streams": -2}, "streams must be"),
         ({"disk_order": 0}, "disk_order must be"),
         ({"phase_integral_order": 1.5}, "phase_integral_order must be"),
-        ({"surface": "brdf"}, "surface: bidirectional surfaces are not available yet"),
-        ({"stokes": 3}, "stokes: only stokes=1"),
+        ({"surface": lamina.surface.lambertian(0.3)}, "surface: give either surface"),
+        ({"stokes": 3}, "stokes: polarized phase curves need the vector kernel"),
         ({"stellar_spectrum": xr.DataArray([1.0, 2.0], dims="frequency")},
          "stellar_spectrum is over 'frequency'"),
         ({"surface_albedo": 1.5}, "surface_albedo"),
@@ -191,3 +191,32 @@ def test_bad_input_names_the_argument(kwargs, match):
     arguments.update(kwargs)
     with pytest.raises(ValueError, match=match):
         phase_curve(**arguments)
+    with pytest.raises(TypeError, match="surface must be a lamina.surface surface"):
+        phase_curve(_clear(), [0.0], 4, surface="brdf")
+
+
+def test_a_lambertian_surface_object_equals_the_surface_albedo():
+    # solve(surface=) through its bidirectional path (BRDF Fourier terms, exact BRDF for the
+    # beam at the views) against the Lambertian surface_albedo: the same planet
+    atm = lamina.make_atmosphere([0.1, 0.4], [0.9, 0.99],
+                                 lamina.phase.henyey_greenstein(0.5, 16))
+    options = dict(disk_order=(8, 6), phase_integral_order=6)
+    lambert = phase_curve(atm, [0.0, 70.0, 140.0], 8, surface_albedo=0.3, **options)
+    surface = phase_curve(atm, [0.0, 70.0, 140.0], 8,
+                          surface=lamina.surface.lambertian(0.3), **options)
+    for name in ("reflectance", "geometric_albedo", "spherical_albedo"):
+        np.testing.assert_allclose(surface[name].values, lambert[name].values, rtol=1e-10)
+
+
+def test_planet_radius_reaches_the_local_solves():
+    # a curved planet's local beam (pseudo-spherical): for a radius far larger than the
+    # atmosphere the curve is the plane-parallel one (to 1e-6); a small planet under a
+    # thick atmosphere (100 km on 1000 km) changes the grazing suns' columns, and the curve
+    atm = lamina.make_atmosphere([0.2, 0.5], [0.95, 0.9], lamina.phase.henyey_greenstein(
+        0.6, 16), altitude=[100e3, 50e3, 0.0])
+    options = dict(disk_order=(8, 6), phase_integral_order=6, surface_albedo=0.1)
+    flat = phase_curve(atm, [0.0, 90.0], 8, **options)
+    huge = phase_curve(atm, [0.0, 90.0], 8, planet_radius=1e15, **options)
+    small = phase_curve(atm, [0.0, 90.0], 8, planet_radius=1e6, **options)
+    np.testing.assert_allclose(huge.reflectance.values, flat.reflectance.values, rtol=1e-6)
+    assert not np.allclose(small.reflectance.values, flat.reflectance.values, rtol=1e-3)

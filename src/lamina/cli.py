@@ -95,7 +95,8 @@ def _build_parser() -> _Parser:
         "demo", help="run the built-in demo scenario end to end",
         description="Solve an invented hazy, cloud-capped atmosphere of a fictional planet "
                     "from the visible to the near infrared, write demo.nc and its figures "
-                    "into DIR and print a summary.")
+                    "into DIR, then the whole planet's phase curves and albedo spectra "
+                    "(planet.nc, phase_curve.png, albedo_spectrum.png), and print a summary.")
     demo.add_argument("--output", "-o", type=Path, required=True, metavar="DIR",
                       help="folder for demo.nc and the figures (created if its parent exists)")
     demo.add_argument("--no-progress", action="store_true", help="draw no progress bar")
@@ -119,13 +120,17 @@ def _build_parser() -> _Parser:
 
 
 def _solve_scenario(scenario_path: Path, output: Path, chunk_size: int | None, resume: bool,
-                    progress: bool) -> xr.Dataset:
+                    progress: bool, loaded: list | None = None) -> xr.Dataset:
+    """Solve a scenario file into ``output``; ``loaded`` (a list) receives the scenario and
+    its atmosphere."""
     from lamina.io import check_writable, run_chunked
     from lamina.scenario import load_scenario
 
     check_writable(output)  # before reading and computing anything
     scenario = load_scenario(scenario_path)
     atmosphere = scenario.build_atmosphere()
+    if loaded is not None:
+        loaded.extend([scenario, atmosphere])
     return run_chunked(
         atmosphere, scenario.solve_kwargs(), output,
         chunk_size if chunk_size is not None else scenario.chunk_size,
@@ -209,6 +214,44 @@ def _summary(result: xr.Dataset) -> list[str]:
     return lines
 
 
+#: The demo planet's invented radius (m) and its star's invented temperature (K).
+DEMO_PLANET_RADIUS = 4.1e6
+DEMO_STAR_TEMPERATURE = 5200.0
+
+
+def _demo_planet(scenario, atmosphere: xr.Dataset, folder: Path) -> tuple[list[Path], list[str]]:
+    """The demo planet seen whole: phase curves, geometric and spherical albedo spectra.
+
+    A sphere of radius DEMO_PLANET_RADIUS covered by the demo's atmosphere, each local
+    column with the pseudo-spherical beam; modest orders keep the demo quick.
+    """
+    from lamina.io import write_netcdf
+    from lamina.planck import spectral_radiance_wavelength
+    from lamina.planet import phase_curve
+    from lamina.plotting import albedo_spectrum, phase_curves
+
+    surface = {key: value for key, value in scenario.solve_kwargs().items()
+               if key in ("surface_albedo", "surface")}
+    wavelength = atmosphere["wavelength"]
+    star = xr.DataArray(spectral_radiance_wavelength(DEMO_STAR_TEMPERATURE, wavelength.values),
+                        dims="wavelength", coords={"wavelength": wavelength})
+    curve = phase_curve(atmosphere, np.arange(0.0, 171.0, 10.0), 8, **surface,
+                        planet_radius=DEMO_PLANET_RADIUS, stellar_spectrum=star,
+                        disk_order=(12, 6), phase_integral_order=8)
+    curve.attrs["planet"] = (f"{scenario.attributes().get('title', 'demo planet')}, seen whole "
+                             f"(radius {DEMO_PLANET_RADIUS / 1e3:g} km)")
+    output = folder / "planet.nc"
+    write_netcdf(curve, output)
+    figures = [folder / "phase_curve.png", folder / "albedo_spectrum.png"]
+    phase_curves(curve, path=figures[0])
+    albedo_spectrum(curve, path=figures[1])
+    p = curve["geometric_albedo"].values
+    lines = [f"  wrote {output}: the planet seen whole (radius {DEMO_PLANET_RADIUS / 1e3:g} "
+             f"km): geometric albedo {p.min():.3f} to {p.max():.3f}, Bond albedo "
+             f"{float(curve['bond_albedo']):.3f} (a {DEMO_STAR_TEMPERATURE:g} K star)"]
+    return figures, lines
+
+
 def _demo(args: argparse.Namespace) -> int:
     from lamina.plotting import plot_result
 
@@ -216,11 +259,15 @@ def _demo(args: argparse.Namespace) -> int:
     folder: Path = args.output
     _ensure_folder(folder, "the demo")
     output = folder / "demo.nc"
-    result = _solve_scenario(_demo_scenario(), output, None, False, not args.no_progress)
+    loaded: list = []
+    result = _solve_scenario(_demo_scenario(), output, None, False, not args.no_progress,
+                             loaded)
     written = plot_result(result, folder)
+    planet_figures, planet_lines = _demo_planet(*loaded, folder)
+    written += planet_figures
     print(f"lamina demo: {result.attrs.get('title', 'demo')}")
     print(f"  wrote {output} ({', '.join(f'{n} {d}' for d, n in result.sizes.items())})")
-    for line in _summary(result):
+    for line in _summary(result) + planet_lines:
         print(line)
     print(f"  figures: {', '.join(path.name for path in written)}")
     print(f"  took {time.monotonic() - start:.1f} s")

@@ -31,19 +31,23 @@ cos psi_max = -mu0 cos a / (sqrt(1 - mu0^2) sin a) (clipped to [-1, 1]). The int
 Gauss-Legendre in mu0 on (0, 1) and, for each mu0, Gauss-Legendre in psi on (0, psi_max)
 (twice, by the mirror symmetry about the scattering plane).
 
-Why these coordinates: :func:`lamina.solve` returns radiances on the outer product
-sun_zenith x view_zenith x view_azimuth. The mu0 nodes are the same for every phase angle,
-so all the suns of the whole phase curve are the mu0 points of ``disk_order``, and each
-(sun, view) pair
-that the disk needs is used once, at one azimuth. The azimuth is not sampled at the needed
-values: the reflected radiance at fixed (mu, mu0) is a finite cosine series in the azimuth,
-of degree K = max(streams, moments) - 1 (the discrete-ordinates series has at most
-``streams`` terms and the exact single-scattering correction is a polynomial of degree
-moments - 1 in the cosine of the scattering angle), so K + 1 equally spaced azimuths on
-[0, 180] determine it exactly (a type-I discrete cosine transform) and it is evaluated at
-each needed azimuth through that series. Nothing is interpolated in mu or mu0. ONE solve
-call serves the whole phase curve, the geometric albedo and the phase-integral nodes, with
-one homogeneous solution per layer and Fourier term.
+Why these coordinates: the mu0 nodes are the same for every phase angle, so the whole
+phase curve, the geometric albedo and the phase-integral nodes need only the mu0 points of
+``disk_order`` as suns, and each node needs only the view cosines of its own points. Each
+mu0 node is one :func:`lamina.solve` call with one sun and just those view cosines (with
+one homogeneous solution per layer and Fourier term for all of them); a single call over
+all nodes would compute the outer product sun x view, in which each node's views are a
+small part of all the views (measured: 20 phase angles, 16 streams, 32 moments, 3 layers,
+the default orders: 7 s and 1.1 GB on one core with one call over all nodes, 0.45 s with
+one call per node, the same results to 3e-11).
+The azimuth is not sampled at the needed values: the reflected radiance at fixed
+(mu, mu0) is a finite cosine series in the azimuth, of degree K = max(streams, moments) - 1
+(the discrete-ordinates series has at most ``streams`` terms and the exact
+single-scattering correction is a polynomial of degree moments - 1 in the cosine of the
+scattering angle), so K + 1 equally spaced azimuths on [0, 180] determine it exactly (a
+type-I discrete cosine transform) and it is evaluated at each needed azimuth through that
+series. Nothing is interpolated in mu or mu0. ``benchmarks/phase_curve.py`` measures the
+whole curve against one radiance run of the local geometries it needs.
 
 The price of the shared mu0 nodes: for 0 < a < 180 the visible part of the circle mu0 =
 const changes from a full circle to an arc at mu0 = sin a, where the inner integral has a
@@ -51,11 +55,6 @@ const changes from a full circle to an arc at mu0 = sin a, where the inner integ
 mu0_points^-2.5) rather than geometrically away from a = 0 and a = 180, and crescents
 (a > 150 or so) are resolved by the few mu0 points below sin a. At a = 0 (the geometric
 albedo) every circle is wholly visible and the convergence is geometric.
-
-The other price is the outer product itself: of the mu0_points x views x (K + 1)
-radiances that solve computes, one in mu0_points x (K + 1) is used (measured: 20 phase
-angles, 16 streams, 32 moments, 3 layers, the default orders: 10 s and 1.1 GB on one core).
-A solve mode that takes a list of (sun, view, azimuth) triples would remove that factor.
 
 With delta-M and the single-scattering correction (the defaults) the disk integrates the
 corrected radiances, while lamina's fluxes, and so the plane albedo, stay those of the
@@ -185,47 +184,63 @@ def _check_phase_angle(phase_angle: object) -> np.ndarray:
     return angles
 
 
-def _check_not_yet(surface: object, stokes: object) -> None:
-    if surface is not None:
-        raise ValueError("surface: bidirectional surfaces are not available yet in "
-                         "phase_curve; give surface=None and a Lambertian surface_albedo")
+def _check_stokes(stokes: object) -> None:
     if isinstance(stokes, bool) or not isinstance(stokes, int | np.integer) or stokes != 1:
-        raise ValueError(f"stokes: only stokes=1 (scalar radiance) is available yet in "
-                         f"phase_curve; got {stokes!r}")
+        raise ValueError(f"stokes: polarized phase curves need the vector kernel, which lamina "
+                         f"does not have yet; give stokes=1 (scalar radiance); got {stokes!r}")
+
+
+def _check_surface(surface: object, surface_albedo: object) -> None:
+    if surface is None:
+        return
+    from lamina.surface import Surface
+
+    if not isinstance(surface, Surface):
+        raise TypeError("surface must be a lamina.surface surface (e.g. "
+                        f"lamina.surface.hapke(...)); got {type(surface).__name__}")
+    if surface_albedo is not None:
+        raise ValueError("surface: give either surface (a bidirectional lamina.surface) or "
+                         "surface_albedo (a Lambertian albedo), not both")
 
 
 def _disk_integrals(
     atmosphere: xr.Dataset,
     angles: np.ndarray,
     streams: int,
-    surface_albedo: object,
     order: tuple[int, int],
     solve_options: dict,
 ) -> xr.DataArray:
-    """The disk integral of I mu dA at each phase angle (one solve call for all of them)."""
+    """The disk integral of I mu dA at each phase angle (one solve per mu0 node).
+
+    Each node's solve has one sun and only the view cosines that node's points need, at
+    the K + 1 sample azimuths of the cosine series (see the module docstring).
+    """
     from lamina.solve import solve  # here: solve imports modules that may import this one
 
     nodes = disk_nodes(angles, *order)
     sun_zenith = np.degrees(np.arccos(nodes["sun_cosine"]))
-    view_zenith = np.degrees(np.arccos(nodes["view_cosine"]))
-    views, view_index = np.unique(view_zenith, return_inverse=True)
     degree = max(streams, atmosphere.sizes["moment"]) - 1
     samples, basis = _azimuth_basis(nodes["azimuth"], degree)
-    out = solve(atmosphere, streams=streams, sun_zenith=list(sun_zenith), sun_irradiance=1.0,
-                surface_albedo=surface_albedo, view_zenith=views, view_azimuth=samples,
-                top_diffuse_radiance=0.0, output_levels=[0], **solve_options)
-    radiance = out["radiance"].isel(level=0, drop=True).sel(direction="up", drop=True)
-    extra = [dim for dim in radiance.dims
-             if dim not in ("sun_zenith", "view_zenith", "view_azimuth")]
-    radiance = radiance.transpose(*extra, "sun_zenith", "view_zenith", "view_azimuth")
-    values = np.asarray(radiance.values)
-    local = values[..., nodes["sun_index"], view_index, :]                 # (..., N, K+1)
-    brightness = np.einsum("...nk,nk->...n", local, basis)
-    terms = brightness * (nodes["weight"] * nodes["view_cosine"])
-    # nodes come sorted by phase; a phase with no node (a = 180) integrates to zero
-    total = np.zeros((*terms.shape[:-1], angles.size))
-    np.add.at(np.moveaxis(total, -1, 0), nodes["phase_index"], np.moveaxis(terms, -1, 0))
-    coords = {dim: radiance.coords[dim] for dim in extra if dim in radiance.coords}
+    total = None
+    for sun in np.unique(nodes["sun_index"]):
+        pick = np.flatnonzero(nodes["sun_index"] == sun)
+        view_zenith = np.degrees(np.arccos(nodes["view_cosine"][pick]))
+        views, view_index = np.unique(view_zenith, return_inverse=True)
+        out = solve(atmosphere, streams=streams, sun_zenith=float(sun_zenith[sun]),
+                    sun_irradiance=1.0, view_zenith=views, view_azimuth=samples,
+                    top_diffuse_radiance=0.0, output_levels=[0], **solve_options)
+        radiance = out["radiance"].isel(level=0, drop=True).sel(direction="up", drop=True)
+        extra = [dim for dim in radiance.dims if dim not in ("view_zenith", "view_azimuth")]
+        radiance = radiance.transpose(*extra, "view_zenith", "view_azimuth")
+        local = np.asarray(radiance.values)[..., view_index, :]          # (..., n, K+1)
+        brightness = np.einsum("...nk,nk->...n", local, basis[pick])
+        terms = brightness * (nodes["weight"][pick] * nodes["view_cosine"][pick])
+        if total is None:
+            # a phase with no node (a = 180) integrates to zero
+            total = np.zeros((*terms.shape[:-1], angles.size))
+            coords = {dim: radiance.coords[dim] for dim in extra if dim in radiance.coords}
+        np.add.at(np.moveaxis(total, -1, 0), nodes["phase_index"][pick],
+                  np.moveaxis(terms, -1, 0))
     return xr.DataArray(total, dims=(*extra, "_phase"), coords=coords)
 
 
@@ -258,10 +273,11 @@ def phase_curve(
     atmosphere: xr.Dataset,
     phase_angle: float | Sequence[float] | np.ndarray,
     streams: int,
-    surface_albedo: object = 0.0,
+    surface_albedo: object = None,
     surface: object = None,
     stokes: int = 1,
     *,
+    planet_radius: object = None,
     stellar_spectrum: xr.DataArray | None = None,
     disk_order: int | tuple[int, int] = (16, 8),
     phase_integral_order: int = 12,
@@ -283,12 +299,17 @@ def phase_curve(
         Star-planet-observer angles in degrees, each in [0, 180].
     streams : int
         Discrete ordinates of the local solutions (even, >= 2).
-    surface_albedo : float or DataArray
-        Lambertian albedo of the ground under the atmosphere, in [0, 1].
-    surface : None
-        Bidirectional surfaces: not available yet (only None is accepted).
+    surface_albedo : float or DataArray, optional
+        Lambertian albedo of the ground under the atmosphere, in [0, 1] (default: black).
+    surface : lamina.surface.Surface, optional
+        A bidirectional ground instead (:func:`lamina.solve`'s ``surface=``; not together
+        with ``surface_albedo``).
     stokes : int
-        Only 1 (scalar radiance) is available yet.
+        Only 1 (scalar radiance): polarized phase curves need the vector kernel.
+    planet_radius : float or DataArray, optional
+        Passed to :func:`lamina.solve`: each local column then has the pseudo-spherical
+        beam (needs level altitudes, or pressures and temperatures, in the atmosphere).
+        The disk's geometry is the sphere's either way; only the local beam changes.
     stellar_spectrum : xarray.DataArray, optional
         Stellar irradiance over one spectral dim of the atmosphere (with its coordinate):
         adds ``bond_albedo``, the spherical albedo weighted by it (trapezoidal rule).
@@ -321,7 +342,8 @@ def phase_curve(
     >>> round(float(out.geometric_albedo), 6)   # the Lambert sphere: 2/3
     0.666667
     """
-    _check_not_yet(surface, stokes)
+    _check_stokes(stokes)
+    _check_surface(surface, surface_albedo)
     check_atmosphere(atmosphere)
     angles = _check_phase_angle(phase_angle)
     if isinstance(streams, bool) or not isinstance(streams, int | np.integer) \
@@ -337,8 +359,9 @@ def phase_curve(
     integral_angles = 180.0 * nodes
     everything = np.concatenate([[0.0], integral_angles, angles])
     options = {"delta_m": delta_m, "single_scattering_correction": single_scattering_correction,
-               "fourier_tolerance": fourier_tolerance}
-    disk = _disk_integrals(atmosphere, everything, int(streams), surface_albedo, order, options)
+               "fourier_tolerance": fourier_tolerance, "surface_albedo": surface_albedo,
+               "surface": surface, "planet_radius": planet_radius}
+    disk = _disk_integrals(atmosphere, everything, int(streams), order, options)
     geometric = disk.isel(_phase=0, drop=True)
     integral_part = disk.isel(_phase=slice(1, 1 + integral_order))
     # da = pi d(node); 2 int reflectance sin a da

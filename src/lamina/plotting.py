@@ -28,9 +28,11 @@ from matplotlib.lines import Line2D
 from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
 
 __all__ = [
+    "albedo_spectrum",
     "flux_profiles",
     "heating_rate_profile",
     "mean_intensity_profile",
+    "phase_curves",
     "plot_result",
     "radiance_by_view_zenith",
     "spectrum",
@@ -393,6 +395,84 @@ def spectrum(result: xr.Dataset, *, path: str | os.PathLike[str] | None = None) 
     heading = str(result.attrs.get("title", ""))
     if heading:
         figure.suptitle(heading, fontsize=10)
+    return _save(figure, path)
+
+
+def phase_curves(curve: xr.Dataset, *, path: str | os.PathLike[str] | None = None) -> Figure:
+    """A planet's disk-integrated reflectance against phase angle, a few wavelengths.
+
+    Parameters
+    ----------
+    curve : xarray.Dataset
+        Output of :func:`lamina.planet.phase_curve` (``reflectance`` over ``phase_angle``);
+        a spectral dim gives a family of lines, further dims are fixed at their first value.
+    path : path-like, optional
+        Save the figure there as PNG.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    reflectance = curve["reflectance"]
+    series, others = _split_dims(reflectance, keep=("phase_angle",))
+    reflectance, fixed = _fix_others(reflectance, others)
+    figure, axes = _figure(1, width=5.6, height=4.0)
+    ax = axes[0]
+    angle = np.asarray(curve["phase_angle"].values, dtype=float)
+    if series is None:
+        ax.plot(angle, reflectance.values, color="#1f618d", linewidth=1.5)
+    else:
+        picks = _series_indices(reflectance.sizes[series])
+        colours = colormaps[_COLOURMAP](np.linspace(0.0, 0.85, picks.size))
+        for number, colour in zip(picks, colours, strict=True):
+            value = curve[series].values[number] if series in curve.coords else number
+            ax.plot(angle, reflectance.isel({series: number}).transpose("phase_angle").values,
+                    color=colour, linewidth=1.5, label=_format_value(curve, series, value))
+        ax.legend(fontsize=8, frameon=False)
+    ax.set_xlabel("phase angle (°)", fontsize=9)
+    ax.set_ylabel("reflectance (geometric albedo at phase 0)", fontsize=9)
+    ax.set_xlim(0.0, 180.0)
+    ax.set_ylim(bottom=0.0)
+    heading = str(curve.attrs.get("planet", "")) or "disk-integrated reflected light"
+    figure.suptitle(heading + (f" ({fixed})" if fixed else ""), fontsize=10)
+    return _save(figure, path)
+
+
+def albedo_spectrum(curve: xr.Dataset, *,
+                    path: str | os.PathLike[str] | None = None) -> Figure:
+    """A planet's geometric and spherical albedos against wavelength.
+
+    Parameters
+    ----------
+    curve : xarray.Dataset
+        Output of :func:`lamina.planet.phase_curve` over a spectral dim.
+    path : path-like, optional
+        Save the figure there as PNG.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    dim = _spectral_dim(curve)
+    if dim is None:
+        raise ValueError("the phase curve has no spectral dim (wavelength, wavenumber or "
+                         "frequency)")
+    figure, axes = _figure(1, width=5.6, height=4.0)
+    ax = axes[0]
+    x = np.asarray(curve[dim].values, dtype=float)
+    for name, label, colour in (("geometric_albedo", "geometric albedo", "#b03a2e"),
+                                ("spherical_albedo", "spherical albedo", "#1f618d")):
+        values, _ = _fix_others(curve[name], [d for d in curve[name].dims if d != dim])
+        ax.plot(x, values.transpose(dim).values, color=colour, linewidth=1.5, label=label)
+    if "bond_albedo" in curve:
+        ax.axhline(float(curve["bond_albedo"].values.ravel()[0]), color="0.4",
+                   linestyle="--", linewidth=1.0, label="Bond albedo")
+    ax.set_xlabel(f"{dim}{_units(curve[dim])}", fontsize=9)
+    ax.set_ylabel("albedo", fontsize=9)
+    ax.set_ylim(0.0, 1.0)
+    ax.legend(fontsize=8, frameon=False)
+    heading = str(curve.attrs.get("planet", "")) or "disk-integrated albedos"
+    figure.suptitle(heading, fontsize=10)
     return _save(figure, path)
 
 

@@ -30,6 +30,7 @@ from lamina._solver.kernel_call import solve_block
 from lamina._solver.options import check_options
 from lamina._solver.outputs import assemble
 from lamina._solver.phase_checks import warn_about_phase_functions
+from lamina._solver.planet_geometry import level_radii
 from lamina._solver.scaling import scale_layers
 from lamina._solver.surface_terms import check_surface, surface_arrays
 from lamina._solver.thermal_sources import planck_sources
@@ -67,6 +68,8 @@ def solve(
     gravity: float = EARTH_GRAVITY,
     heat_capacity: float = DRY_AIR_HEAT_CAPACITY,
     surface: object = None,
+    planet_radius: object = None,
+    molar_mass: float | None = None,
 ) -> xr.Dataset:
     """Radiances, fluxes and mean intensities in a layered plane-parallel atmosphere.
 
@@ -78,7 +81,8 @@ def solve(
         Total number of discrete ordinates (even, >= 2); ``streams // 2`` double-Gauss
         cosines per hemisphere.
     sun_zenith : float, list of float or DataArray, optional
-        Zenith angle of the incident beam in degrees, 0 <= theta_0 < 90. A list becomes the
+        Zenith angle of the incident beam in degrees, 0 <= theta_0 < 90 (with
+        ``planet_radius``: up to 180, as long as the beam reaches some level). A list becomes the
         output dim ``sun_zenith``; all its angles share one homogeneous solution. Without
         it there is no beam (no default adds a source): the run is thermal, or lit only by
         ``top_diffuse_radiance``, and only the azimuth-averaged term is solved.
@@ -134,7 +138,8 @@ def solve(
         quadrature carries).
     gravity, heat_capacity : float
         g (m s-2) and c_p (J kg-1 K-1) for heating rates; defaults are Earth air
-        (9.80665 and 1004).
+        (9.80665 and 1004). ``gravity`` also serves the hypsometric altitudes of a curved
+        planet (``planet_radius``).
     surface : lamina.surface.Surface, optional
         A bidirectional surface (``lamina.surface.cox_munk(5.0)``,
         ``lamina.surface.ross_li(...)``, a weighted sum, ...) instead of
@@ -142,6 +147,29 @@ def solve(
         bottom boundary condition, the direct beam is reflected with the exact BRDF at the
         view angles, and a thermal run's surface emits with the directional emissivity
         1 - directional albedo. Its directional albedo is checked at the run's sun angles.
+    planet_radius : float or DataArray, optional
+        Radius of the planet's surface in m (a DataArray may carry a ``units`` attribute,
+        e.g. ``"km"``). Turns on the pseudo-spherical beam (Dahlback and Stamnes 1991): the
+        direct beam is attenuated along its straight path through spherical shells from the
+        top of the atmosphere to each level, each layer's extinction uniform in altitude
+        within its shell (:func:`lamina.spherical.air_mass_factors`), and the beam source
+        of each layer decays from the slant transmittance at its top with the layer's own
+        effective cosine (vertical over slant optical depth across the layer). The sun
+        zenith (the same at every level of the vertical) may reach 90 degrees at the
+        ground and beyond: levels the beam still reaches over the horizon are lit
+        (twilight in the upper layers), those in the planet's shadow get no beam, and a lit
+        level with the sun below its horizon has a negative ``flux_down_direct`` (the beam
+        crosses it upward). What stays plane-parallel: the diffuse field (solved in flat
+        layers), the lines of sight of radiances (straight through flat layers), the
+        angular part of the beam source (the sun's zenith angle is the same in every
+        layer) and the single-scattering and aureole corrections' paths along the view.
+        Level altitudes come from the atmosphere's ``altitude`` or, without it, from its
+        level ``pressure`` and ``temperature`` through the hypsometric equation
+        (:func:`lamina.spherical.hypsometric_altitudes`, with ``molar_mass`` and
+        ``gravity``).
+    molar_mass : float, optional
+        Mean molar mass of the gas in kg mol-1 for the hypsometric altitudes (default dry
+        air, 0.0289644); only with ``planet_radius`` and an atmosphere without altitudes.
 
     Returns
     -------
@@ -162,6 +190,7 @@ def solve(
     # check
     check_atmosphere(atmosphere)
     check_surface(surface, surface_albedo)
+    radius = level_radii(atmosphere, planet_radius, molar_mass, gravity)
     options = check_options(
         atmosphere, streams=streams, sun_zenith=sun_zenith, sun_irradiance=sun_irradiance,
         surface_albedo=surface_albedo, view_zenith=view_zenith, view_azimuth=view_azimuth,
@@ -169,11 +198,12 @@ def solve(
         delta_m=delta_m, single_scattering_correction=single_scattering_correction,
         aureole_correction=aureole_correction, fourier_tolerance=fourier_tolerance,
         max_fourier_terms=max_fourier_terms, gravity=gravity, heat_capacity=heat_capacity,
+        spherical=radius is not None,
     )
     sources = planck_sources(atmosphere, wavenumber_band, wavenumber, surface_temperature)
     bidirectional = surface_arrays(surface, options, sources.thermal)
     # plan
-    plan = plan_blocks(atmosphere, options, sources, bidirectional)
+    plan = plan_blocks(atmosphere, options, sources, bidirectional, radius)
     # apply over blocks
     results = xr.apply_ufunc(
         _solve_block, *plan.inputs,
@@ -204,11 +234,15 @@ def _solve_block(
 ) -> tuple[np.ndarray, ...]:
     """Solve one block of columns (numpy in, numpy out); leading axes are columns.
 
-    ``surface``: the arrays of a bidirectional surface (``_solver.surface_terms``), if any.
+    ``surface``: the arrays of a bidirectional surface (``_solver.surface_terms``), if any,
+    then the level radii of a curved planet (``settings.spherical``).
     """
+    radius = None
+    if settings.spherical:
+        *surface, radius = surface
     block = prepare_block(tau, albedo, moments, sun_zenith, irradiance, surface_albedo,
                           planck_levels, planck_surface, top_radiance, settings,
-                          surface=surface)
+                          surface=tuple(surface), radius=radius)
     warn_about_phase_functions(block, settings)
     layers = scale_layers(block.optical_depth, block.single_scattering_albedo,
                           block.phase_moments, settings.streams, settings.delta_m)

@@ -52,7 +52,7 @@ from scipy.linalg.cython_lapack cimport dgbtrf, dgbtrs
 from lamina._kernel._lapack_int cimport lapack_int
 from lamina._kernel.common cimport (
     PI, STATUS_BAND_FACTOR, STATUS_BAND_SOLVE, Column, Grid, Layers, Scratch, Sizes,
-    particular_at,
+    particular_at, spherical_ground_beam,
 )
 
 
@@ -83,7 +83,9 @@ cdef void surface_reflection(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Gri
     for s in range(sz.nsun):
         sec = 1.0 / sc.mu0e[s]
         sc.surfbeam[s] = 0.0
-        if mode == 0:
+        if mode == 0 and cl.beam_slant != NULL:
+            sc.surfbeam[s] = albedo / PI * cl.irradiance[s] * spherical_ground_beam(sz, cl, s)
+        elif mode == 0:
             sc.surfbeam[s] = albedo / PI * sc.mu0e[s] * cl.irradiance[s] * exp(-total * sec)
 
 
@@ -109,8 +111,12 @@ cdef void brdf_reflection(Sizes *sz, Scratch *sc, Column *cl, Grid *gr,
     for layer in range(sz.nlayer):
         total = total + cl.tau[layer]
     for s in range(sz.nsun):
-        beam = (1.0 if mode == 0 else 2.0) * sc.mu0e[s] * cl.irradiance[s] \
-            * exp(-total / sc.mu0e[s])
+        if cl.beam_slant != NULL:
+            beam = (1.0 if mode == 0 else 2.0) * cl.irradiance[s] \
+                * spherical_ground_beam(sz, cl, s)
+        else:
+            beam = (1.0 if mode == 0 else 2.0) * sc.mu0e[s] * cl.irradiance[s] \
+                * exp(-total / sc.mu0e[s])
         for i in range(n):
             sc.beamq[s * n + i] = beam * cl.brdf_beam[(s * cl.surface_terms + mode) * n + i] \
                 if given else 0.0

@@ -78,6 +78,9 @@ cdef struct Column:
     const double *brdf_view_beam        # [sun][nvz][nva] f(mu_u, mu0, phi), exact
     const double *emissivity_quadrature     # [n] 1 - directional albedo at mu_i
     const double *emissivity_view           # [nvz] at mu_u
+    # a pseudo-spherical beam (layers.beam_geometry); NULL for the plane-parallel beam
+    const double *beam_slant    # [sun][layer + 1] slant optical depth to each level
+    const double *beam_cosine   # [sun][layer] effective beam cosine of each layer
 
 
 cdef struct Grid:
@@ -137,6 +140,9 @@ cdef struct Scratch:
     lapack_int ldab
     lapack_int kl
     double *mu0e      # [sun] mu0 used for this Fourier term (resonance shift)
+    # [layer][sun] the beam's cosine in each layer for this term (the attenuation rate of its
+    # source: mu0e, or the pseudo-spherical layer's own)
+    double *mu0l
     double *surfbeam  # [sun] the surface's reflection of the direct beam, this term
     double *refl      # [n] surface reflection weights of this term (boundary.surface_reflection)
     # a bidirectional surface, this term (boundary.surface_reflection)
@@ -272,6 +278,14 @@ cdef inline void legendre_table(Py_ssize_t m, Py_ssize_t nl, const double *x, Py
                 out[l + i * nl] = p2
                 p0 = p1
                 p1 = p2
+
+
+cdef inline double spherical_ground_beam(Sizes *sz, Column *cl, Py_ssize_t sun) noexcept nogil:
+    """Pseudo-spherical beam: mu0 exp(-slant optical depth to the ground), 0 below the horizon.
+
+    (The plane-parallel callers keep their own mu0 exp(-tau_total / mu0).)
+    """
+    return max(cl.mu0[sun], 0.0) * exp(-cl.beam_slant[sun * (sz.nlayer + 1) + sz.nlayer])
 
 
 cdef inline double particular_at(Sizes *sz, Layers *ly, Py_ssize_t layer, Py_ssize_t sun,

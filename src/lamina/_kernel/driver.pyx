@@ -118,6 +118,7 @@ def _workspace_sizes(Py_ssize_t n, Py_ssize_t nlay, Py_ssize_t nsun, Py_ssize_t 
         "l0": nl * nsun, "ceall": nlay * nl, "coall": nlay * nl,
         "tall": 2 * n * nlay * nl, "kall": 2 * n * nlay * n, "tmp": 2 * nl,
         "zz": n * n, "vec1": n, "vec2": n, "vec3": n, "ab": ldab * neq, "mu0e": nsun,
+        "mu0l": nlay * nsun,
         "surfbeam": nsun, "refl": n, "pup": nvz * n, "pum": nvz * n, "hA": nlay * nvz * n,
         "hB": nlay * nvz * n, "zuA": nlay * nsun * nvz, "zuB": nlay * nsun * nvz,
         "s0A": nlay * nvz, "s0B": nlay * nvz, "iup": (nlay + 1) * nsun * nvz,
@@ -167,6 +168,7 @@ cdef void point_workspace(double *base, dict at, Layers *ly, Scratch *sc, Grid *
     sc.vec3 = base + <Py_ssize_t>at["vec3"]
     sc.ab = base + <Py_ssize_t>at["ab"]
     sc.mu0e = base + <Py_ssize_t>at["mu0e"]
+    sc.mu0l = base + <Py_ssize_t>at["mu0l"]
     sc.surfbeam = base + <Py_ssize_t>at["surfbeam"]
     sc.refl = base + <Py_ssize_t>at["refl"]
     sc.pup = base + <Py_ssize_t>at["pup"]
@@ -386,6 +388,8 @@ def solve_columns(
     const double[:, :, :, ::1] surface_view_beam=None,
     const double[:, ::1] surface_emissivity=None,
     const double[:, ::1] surface_view_emissivity=None,
+    const double[:, :, ::1] beam_slant_optical_depth=None,
+    const double[:, :, ::1] beam_layer_cosine=None,
 ):
     """Solve many columns (see the module docstring for the method).
 
@@ -405,6 +409,15 @@ def solve_columns(
     f_m(mu_u, mu_j); surface_view_beam (column, sun, vz, va) the exact f(mu_u, mu0, phi);
     surface_emissivity (column, n) and surface_view_emissivity (column, vz), 1 - the
     directional albedo. ``surface_albedo`` is then ignored.
+
+    A pseudo-spherical beam (both keywords, or neither for the plane-parallel beam):
+    beam_slant_optical_depth (column, sun, layer + 1) the (scaled) optical depth along the
+    beam's path from the top of the atmosphere to each level (inf where the planet blocks
+    it); beam_layer_cosine (column, sun, layer) > 0, each layer's effective beam cosine
+    (vertical over slant optical depth across the layer). The beam source of layer j is
+    then S exp(-slant_j) exp(-(t - t_j) / cosine_j) with the angular part of the true
+    sun_cosine, which may be <= 0 there (twilight), and the ground receives
+    max(mu0, 0) S exp(-slant at the ground).
     """
     cdef Sizes sz
     cdef Scratch sc
@@ -415,7 +428,7 @@ def solve_columns(
     cdef Py_ssize_t ncol = optical_depth.shape[0]
     cdef Py_ssize_t n = quadrature_cosines.shape[0]
     cdef Py_ssize_t col, i, nmodes
-    cdef bint want_radiance, bidirectional
+    cdef bint want_radiance, bidirectional, spherical
 
     sz.n = n
     sz.nl = 2 * n
@@ -461,6 +474,10 @@ def solve_columns(
          surface_emissivity, surface_view_emissivity))
     cl.bidirectional = bidirectional
     cl.surface_terms = surface_fourier.shape[1] if bidirectional else 0
+    spherical = _check_spherical(ncol, sz.nsun, sz.nlayer, beam_slant_optical_depth,
+                                 beam_layer_cosine)
+    cl.beam_slant = NULL
+    cl.beam_cosine = NULL
 
     # one pool of workspace for a column, reused by every column (kept alive here)
     _workspace = allocate_workspace(&sz, &ly, &sc, &gr)
@@ -486,6 +503,9 @@ def solve_columns(
             cl.surface_albedo = surface_albedo[col]
             cl.surface_planck = planck_surface[col]
             cl.top_radiance = top_radiance[col]
+            if spherical:
+                cl.beam_slant = &beam_slant_optical_depth[col, 0, 0]
+                cl.beam_cosine = &beam_layer_cosine[col, 0, 0]
             if bidirectional:
                 point_surface(&cl, col, sz.nvz, sz.nva, surface_fourier, surface_beam_fourier,
                               surface_view_fourier, surface_view_beam, surface_emissivity,
@@ -523,6 +543,23 @@ def _check_surface(ncol, n, nsun, nvz, nva, arrays):
     for name, shape, want in zip(names, shapes, expected):
         if shape != want:
             raise ValueError(f"solve_columns: {name} has shape {shape}, expected {want}")
+    return True
+
+
+def _check_spherical(ncol, nsun, nlayer, slant, cosine):
+    """True for a pseudo-spherical beam; refuse half of it or mis-shaped arrays."""
+    if slant is None and cosine is None:
+        return False
+    if slant is None or cosine is None:
+        raise ValueError("solve_columns: give both beam_slant_optical_depth and "
+                         "beam_layer_cosine, or neither")
+    for name, array, want in (("beam_slant_optical_depth", slant, (ncol, nsun, nlayer + 1)),
+                              ("beam_layer_cosine", cosine, (ncol, nsun, nlayer))):
+        shape = tuple(np.asarray(array).shape)
+        if shape != want:
+            raise ValueError(f"solve_columns: {name} has shape {shape}, expected {want}")
+    if not np.all(np.asarray(cosine) > 0.0):
+        raise ValueError("solve_columns: beam_layer_cosine must be positive")
     return True
 
 
@@ -571,18 +608,27 @@ def single_scattering(
     const double[::1] view_cosines,
     double sign,
     double[:, :, :, :, :, ::1] radiance,
+    *,
+    const double[:, :, ::1] beam_slant_optical_depth=None,
+    const double[:, :, ::1] beam_layer_cosine=None,
 ):
     """Add ``sign`` times the singly scattered beam radiance to ``radiance``.
 
     phase_function (column, layer, sun, 2, vz, va) holds P(cos T) of each layer for each
     view direction (0 up, 1 down); radiance is (column, sun, pos, 2, vz, va). No surface
     term: the surface-reflected beam is identical in the exact and truncated problems.
+    A pseudo-spherical beam: the two keywords as for :func:`solve_columns` (the beam
+    reaches layer j's top attenuated by its slant depth and decays inside with the
+    layer's cosine; sun_cosine then only enters through phase_function).
     """
     cdef Py_ssize_t ncol = optical_depth.shape[0], nlay = optical_depth.shape[1]
     cdef Py_ssize_t nsun = sun_cosine.shape[1], npos = position_layer.shape[0]
     cdef Py_ssize_t nvz = view_cosines.shape[0], nva = radiance.shape[5]
     cdef Py_ssize_t col, s, u, a, layer, p
     cdef double mu0, sec, inv, beam, dt1, dt2, up, down
+    cdef bint spherical = _check_spherical(ncol, nsun, nlay, beam_slant_optical_depth,
+                                           beam_layer_cosine)
+    cdef double[::1] secants = np.zeros(nlay), top_beam = np.zeros(nlay)
     cdef double[::1] up_levels = np.zeros(nlay + 1), down_levels = np.zeros(nlay + 1)
     cdef double[::1] tops = np.zeros(nlay + 1)
     # per layer and view cosine, the same for every azimuth: transmittance along the view and
@@ -613,26 +659,39 @@ def single_scattering(
             for s in range(nsun):
                 mu0 = sun_cosine[col, s]
                 sec = 1.0 / mu0
+                for layer in range(nlay):
+                    if spherical:
+                        secants[layer] = 1.0 / beam_layer_cosine[col, s, layer]
+                        top_beam[layer] = exp(-beam_slant_optical_depth[col, s, layer])
+                    else:
+                        secants[layer] = sec
+                        top_beam[layer] = exp(-tops[layer] * sec)
                 for u in range(nvz):
                     inv = 1.0 / view_cosines[u]
                     for layer in range(nlay):
+                        sec = secants[layer]
                         beam = sun_irradiance[col, s] / (4.0 * PI) \
                             * single_scattering_albedo[col, layer] \
-                            * exp(-tops[layer] * sec) * inv
+                            * top_beam[layer] * inv
                         across[layer] = exp(-optical_depth[col, layer] * inv)
                         source_up[layer] = beam * dexp(0.0, sec + inv, optical_depth[col, layer])
                         source_down[layer] = beam * dexp(inv, sec, optical_depth[col, layer])
                     for p in range(npos):
                         layer = position_layer[p]
+                        sec = secants[layer]
                         dt1 = position_fraction[p] * optical_depth[col, layer]
                         dt2 = optical_depth[col, layer] - dt1
                         beam = sun_irradiance[col, s] / (4.0 * PI) \
                             * single_scattering_albedo[col, layer] * inv
                         below[p] = exp(-dt2 * inv)
-                        part_up[p] = beam * exp(-(tops[layer] + dt1) * sec) \
-                            * dexp(0.0, sec + inv, dt2)
+                        if spherical:
+                            part_up[p] = beam * top_beam[layer] * exp(-dt1 * sec) \
+                                * dexp(0.0, sec + inv, dt2)
+                        else:
+                            part_up[p] = beam * exp(-(tops[layer] + dt1) * sec) \
+                                * dexp(0.0, sec + inv, dt2)
                         above[p] = exp(-dt1 * inv)
-                        part_down[p] = beam * exp(-tops[layer] * sec) * dexp(inv, sec, dt1)
+                        part_down[p] = beam * top_beam[layer] * dexp(inv, sec, dt1)
                     for a in range(nva):
                         # upward, from the bottom (no surface contribution)
                         up_levels[nlay] = 0.0

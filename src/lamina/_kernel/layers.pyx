@@ -27,8 +27,11 @@ No call here may hand work to OpenBLAS's thread pool for small matrices (its dtr
 does, hence dtrsm; the batched dgemm stays under the threading threshold): the kernel runs
 in dask's or the caller's threads, and a nested pool only oversubscribes the cores.
 
-A new source term (say a pseudo-spherical beam, whose secant and transmittance ``ttop`` are
-set per layer) adds its particular solution here, beside ``beam_particular``; Stokes
+A pseudo-spherical beam (Dahlback and Stamnes 1991) changes only the beam's geometry: each
+layer's source has its own transmittance to the layer top (``ttop``) and its own cosine
+(``mu0l``), set by ``spherical_beam_geometry``; ``beam_particular`` takes that cosine for the
+attenuation and the true mu0 for the angular part. A new source term adds its particular
+solution here, beside ``beam_particular``; Stokes
 components would enlarge the blocks of ``layer_eigen``; derivatives with respect to layer
 properties would differentiate these per-layer solutions.
 """
@@ -314,10 +317,15 @@ cdef void beam_geometry(Sizes *sz, Scratch *sc, Layers *ly, Column *cl,
     Keeps mu0 * k at least RESONANCE_GAP away from 1 in every layer, tabulates the Legendre
     functions at the (shifted) sun cosines and, when mu0 differs from the last term's,
     recomputes the transmittance to each layer top (``ttop``) and across each layer (``eb``)
-    and marks the beam's view-angle integrals stale (``beamdone``).
+    and marks the beam's view-angle integrals stale (``beamdone``). The cosine of every
+    layer (``mu0l``) is the shifted mu0; a pseudo-spherical beam has its own per layer
+    (``spherical_beam_geometry``).
     """
     cdef Py_ssize_t n = sz.n, s, i, layer, _attempt
     cdef double closest, x, sumtau, sec
+    if cl.beam_slant != NULL:
+        spherical_beam_geometry(sz, sc, ly, cl, mode)
+        return
     for s in range(sz.nsun):
         sc.mu0e[s] = cl.mu0[s]
         for _attempt in range(8):
@@ -337,9 +345,51 @@ cdef void beam_geometry(Sizes *sz, Scratch *sc, Layers *ly, Column *cl,
         sumtau = 0.0
         sec = 1.0 / sc.mu0e[s]
         for layer in range(sz.nlayer):
+            sc.mu0l[layer * sz.nsun + s] = sc.mu0e[s]
             ly.ttop[layer * sz.nsun + s] = exp(-sumtau / sc.mu0e[s])
             ly.eb[layer * sz.nsun + s] = exp(-cl.tau[layer] * sec)
             sumtau = sumtau + cl.tau[layer]
+
+
+cdef void spherical_beam_geometry(Sizes *sz, Scratch *sc, Layers *ly, Column *cl,
+                                  Py_ssize_t mode) noexcept nogil:
+    """The pseudo-spherical beam of term ``mode`` (Dahlback and Stamnes 1991).
+
+    Each layer's beam source is S exp(-slant optical depth to its top) exp(-(t - t_top) /
+    mu_layer): ``ttop`` from the slant depth to the top level, ``eb`` and the particular
+    solution from the layer's effective cosine (the wrapper's vertical over slant optical
+    depth of the layer), which alone is kept RESONANCE_GAP away from 1 / k of its own
+    layer. The angular part of the source is the true sun cosine's (the Legendre table at
+    mu0, which may be <= 0 where the beam reaches the level from below its horizon).
+    """
+    cdef Py_ssize_t n = sz.n, s, i, layer, _attempt, nlevel = sz.nlayer + 1
+    cdef double closest, x, cosine
+    cdef bint changed
+    for s in range(sz.nsun):
+        sc.mu0e[s] = cl.mu0[s]
+        legendre_table(mode, sz.nl, &cl.mu0[s], 1, sc.l0 + s * sz.nl)
+        changed = sc.mu0done[s] < 0.0
+        for layer in range(sz.nlayer):
+            cosine = cl.beam_cosine[s * sz.nlayer + layer]
+            for _attempt in range(8):
+                closest = 1.0
+                for i in range(n):
+                    x = fabs(cosine * ly.k[layer * n + i] - 1.0)
+                    if x < closest:
+                        closest = x
+                if closest >= C_RESONANCE_GAP:
+                    break
+                cosine = cosine * (1.0 + 2.0 * C_RESONANCE_GAP)
+            if changed or cosine != sc.mu0l[layer * sz.nsun + s]:
+                changed = True
+            sc.mu0l[layer * sz.nsun + s] = cosine
+        if not changed:
+            continue    # the beam's exponentials of the last term still hold
+        sc.mu0done[s] = 1.0
+        sc.beamdone[s] = 0
+        for layer in range(sz.nlayer):
+            ly.ttop[layer * sz.nsun + s] = exp(-cl.beam_slant[s * nlevel + layer])
+            ly.eb[layer * sz.nsun + s] = exp(-cl.tau[layer] / sc.mu0l[layer * sz.nsun + s])
 
 
 cdef void particular_solutions(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Grid *gr,
@@ -352,4 +402,5 @@ cdef void particular_solutions(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, G
         for s in range(sz.nsun):
             amplitude = w * cl.irradiance[s] * (1.0 if mode == 0 else 2.0) \
                 / (4.0 * PI) * ly.ttop[layer * sz.nsun + s]
-            beam_particular(sz, sc, ly, layer, mode, s, amplitude, sc.mu0e[s], gr.sqw)
+            beam_particular(sz, sc, ly, layer, mode, s, amplitude,
+                            sc.mu0l[layer * sz.nsun + s], gr.sqw)

@@ -33,7 +33,7 @@ from libc.math cimport exp
 
 from lamina._kernel.common cimport (
     C_CONSERVATIVE_GAP, PI, Column, Grid, Layers, Scratch, Sizes, column_dots, dexp, dexp_cached,
-    dexp_from_zero, legendre_table, quadrature_radiance,
+    dexp_from_zero, legendre_table, quadrature_radiance, spherical_ground_beam,
 )
 
 
@@ -289,7 +289,7 @@ cdef void fluxes(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Grid *gr, doubl
             sc.e1[i] = exp(-ly.k[layer * n + i] * dt1)
             sc.e2[i] = exp(-ly.k[layer * n + i] * dt2)
         for s in range(sz.nsun):
-            sec = 1.0 / sc.mu0e[s]
+            sec = 1.0 / sc.mu0l[layer * sz.nsun + s]
             x = exp(-dt1 * sec)
             fu = 0.0
             fd = 0.0
@@ -349,11 +349,12 @@ cdef void beam_integrals(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Grid *g
     They change only when the resonance shift changes mu0 (``beamdone``).
     """
     cdef Py_ssize_t layer, u
-    cdef double depth, inv, sec = 1.0 / sc.mu0e[s]
+    cdef double depth, inv, sec
     if sc.beamdone[s]:
         return
     sc.beamdone[s] = 1
     for layer in range(sz.nlayer):
+        sec = 1.0 / sc.mu0l[layer * sz.nsun + s]
         depth = cl.tau[layer]
         for u in range(sz.nvz):
             inv = 1.0 / gr.umu[u]
@@ -406,7 +407,7 @@ cdef void position_radiances(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Gri
                              Py_ssize_t mode, Py_ssize_t s, Py_ssize_t u) noexcept nogil:
     """Radiance of the term at every output position along view ``u`` into ``sc.radm``."""
     cdef Py_ssize_t p, layer, nsun = sz.nsun, nvz = sz.nvz
-    cdef double umu = gr.umu[u], sec = 1.0 / sc.mu0e[s], dt1, dt2
+    cdef double umu = gr.umu[u], sec, dt1, dt2
     cdef bint thermal = cl.thermal and mode == 0
     cdef double *up
     cdef double *down
@@ -425,6 +426,7 @@ cdef void position_radiances(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Gri
             continue
         dt1 = gr.position_fraction[p] * cl.tau[layer]
         dt2 = cl.tau[layer] - dt1
+        sec = 1.0 / sc.mu0l[layer * nsun + s]
         up[0] = sc.iup[((layer + 1) * nsun + s) * nvz + u] * exp(-dt2 / umu) \
             + upward_partial(sz, sc, ly, layer, s, u, umu, dt1, dt2, sec, thermal)
         down[0] = sc.idn[(layer * nsun + s) * nvz + u] * exp(-dt1 / umu) \
@@ -496,7 +498,10 @@ cdef void surface_beam_views(Sizes *sz, Column *cl, Grid *gr, double *radiance) 
     for layer in range(sz.nlayer):
         total = total + cl.tau[layer]
     for s in range(sz.nsun):
-        beam = cl.mu0[s] * cl.irradiance[s] * exp(-total / cl.mu0[s])
+        if cl.beam_slant != NULL:
+            beam = cl.irradiance[s] * spherical_ground_beam(sz, cl, s)
+        else:
+            beam = cl.mu0[s] * cl.irradiance[s] * exp(-total / cl.mu0[s])
         for p in range(sz.npos):
             depth = 0.0
             for layer in range(gr.position_layer[p]):

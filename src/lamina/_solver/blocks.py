@@ -31,6 +31,7 @@ from lamina._solver.common import (
     beam_cosines,
 )
 from lamina.atmosphere import check_moment_values
+from lamina.spherical import air_mass_factors
 
 #: Core dims of the block inputs, in the order of the block function's arguments.
 INPUT_CORE_DIMS = (["layer"], ["layer"], ["layer", "moment"], [SUN_DIM], [SUN_DIM], [],
@@ -54,11 +55,13 @@ class BlockPlan:
 
 
 def plan_blocks(atmosphere: xr.Dataset, options: Options, sources: ThermalSources,
-                surface: SurfaceArrays | None = None) -> BlockPlan:
+                surface: SurfaceArrays | None = None,
+                radius: xr.DataArray | None = None) -> BlockPlan:
     """The inputs of every block, their core dims, and the outputs' names and dims.
 
     A bidirectional ``surface`` appends its arrays to the inputs (after the nine of
-    ``INPUT_CORE_DIMS``, with the core dims of ``common.SURFACE_CORE_DIMS``).
+    ``INPUT_CORE_DIMS``, with the core dims of ``common.SURFACE_CORE_DIMS``); the level
+    ``radius`` of a curved planet (pseudo-spherical beam) comes last (core dim level).
     """
     optics = [atmosphere[name] for name in
               ("optical_depth", "single_scattering_albedo", "phase_moments")]
@@ -76,11 +79,15 @@ def plan_blocks(atmosphere: xr.Dataset, options: Options, sources: ThermalSource
         # check_atmosphere has checked the values of optical properties held in memory
         optics_checked=all(array.chunks is None for array in optics),
         surface=None if surface is None else surface.description,
+        spherical=radius is not None,
     )
     core_in = [list(core) for core in INPUT_CORE_DIMS]
     if surface is not None:
         inputs += list(surface.arrays)
         core_in += [list(core) for core in SURFACE_CORE_DIMS]
+    if radius is not None:
+        inputs.append(radius)
+        core_in.append(["level"])
     # a core dim must be one dask chunk
     inputs = [
         array.chunk({dim: -1 for dim in core}) if array.chunks is not None else array
@@ -116,11 +123,14 @@ def prepare_block(
     top_radiance: np.ndarray,
     settings: BlockSettings,
     surface: tuple[np.ndarray, ...] = (),
+    radius: np.ndarray | None = None,
 ) -> Block:
     """One block's inputs broadcast to (column, ...), checked, with moments trimmed.
 
     ``surface``: a bidirectional surface's arrays (core dims last), broadcast to the
     block's columns for the kernel (empty for the Lambertian ``surface_albedo``).
+    ``radius``: the level radii of a curved planet (..., level), for the pseudo-spherical
+    beam's air-mass factors.
     """
     lead = np.broadcast_shapes(
         tau.shape[:-1], albedo.shape[:-1], moments.shape[:-2], sun_zenith.shape[:-1],
@@ -128,6 +138,7 @@ def prepare_block(
         planck_surface.shape, top_radiance.shape,
         *(array.shape[:array.ndim - len(core)]
           for array, core in zip(surface, SURFACE_CORE_DIMS, strict=False)),
+        *(() if radius is None else (radius.shape[:-1],)),
     )
     nlayer = tau.shape[-1]
     nsun = sun_zenith.shape[-1]
@@ -148,7 +159,8 @@ def prepare_block(
             require_range(tau, "optical_depth", 0.0)
             require_range(albedo, "single_scattering_albedo", 0.0, 1.0)
             check_moment_values(moments)
-        require_range(zenith, "sun_zenith", 0.0, 90.0, high_open=True)
+        require_range(zenith, "sun_zenith", 0.0, 180.0 if settings.spherical else 90.0,
+                      high_open=True)
         require_range(irradiance, "sun_irradiance", 0.0)
         require_range(surface_albedo, "surface_albedo", 0.0, 1.0)
         require_range(planck_levels, "temperature (as Planck radiance)", 0.0)
@@ -157,7 +169,12 @@ def prepare_block(
         if settings.lazy:
             raise ValueError(f"{error} (the index counts within one dask chunk)") from None
         raise
+    factors = reaches = None
+    if radius is not None:
+        radius = np.broadcast_to(radius, (*lead, nlayer + 1)).reshape(ncol, 1, nlayer + 1)
+        factors, reaches = _beam_paths(radius, zenith)
     return Block(
+        air_mass_factors=factors, beam_reaches=reaches,
         lead=lead, optical_depth=tau, single_scattering_albedo=albedo,
         phase_moments=_trim_moments(moments), beam_cosines=beam_cosines(zenith),
         sun_irradiance=irradiance, surface_albedo=surface_albedo,
@@ -165,6 +182,34 @@ def prepare_block(
         top_diffuse_radiance=top_radiance,
         surface=_surface_columns(surface, lead, ncol),
     )
+
+
+def _beam_paths(radius: np.ndarray, zenith: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Air-mass factors (column, sun, level, layer) and where the beam reaches a level.
+
+    Computed once per distinct pair of level radii and sun angles (the wavelengths of a
+    spectrum share them) and broadcast to the block's columns (read-only views).
+    """
+    keys = np.concatenate([radius[:, 0, :], zenith], axis=1)
+    distinct, inverse = np.unique(keys, axis=0, return_inverse=True)
+    inverse = np.reshape(inverse, -1)
+    nlevel = radius.shape[-1]
+    try:
+        factors, reaches = air_mass_factors(distinct[:, None, :nlevel], distinct[:, nlevel:])
+    except ValueError as error:   # lazily given altitudes are first seen here
+        raise ValueError(f"altitude (as planet_radius + altitude): {error}") from None
+    if distinct.shape[0] == 1:
+        factors = np.broadcast_to(factors, (zenith.shape[0], *factors.shape[1:]))
+        reaches = np.broadcast_to(reaches, (zenith.shape[0], *reaches.shape[1:]))
+    else:
+        factors, reaches = factors[inverse], reaches[inverse]
+    dark = ~np.any(reaches, axis=-1)
+    if np.any(dark):
+        column, sun = np.argwhere(dark)[0]
+        raise ValueError(
+            f"sun_zenith: the sun is below the horizon at every level (column {column}, sun "
+            f"angle {sun}: {zenith[column, sun]:g} degrees); the beam reaches no level")
+    return factors, reaches
 
 
 def _surface_columns(surface: tuple[np.ndarray, ...], lead: tuple[int, ...],

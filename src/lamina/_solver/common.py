@@ -163,6 +163,9 @@ class BlockSettings:
     optics_checked: bool
     #: the bidirectional surface's description (None: the Lambertian surface_albedo)
     surface: str | None = None
+    #: True for a pseudo-spherical beam (solve(planet_radius=)): the level radii are the
+    #: last block input
+    spherical: bool = False
 
 
 @dataclass(frozen=True, eq=False)
@@ -187,6 +190,10 @@ class Block:
     #: the kernel's arrays of a bidirectional surface by keyword, (column, ...); None for
     #: the Lambertian surface_albedo
     surface: dict[str, np.ndarray] | None = None
+    #: the pseudo-spherical beam's air-mass factors (column, sun, level, layer) and where
+    #: it reaches a level (column, sun, level); None for the plane-parallel beam
+    air_mass_factors: np.ndarray | None = None
+    beam_reaches: np.ndarray | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -304,3 +311,60 @@ def depth_at_positions(optical_depth: np.ndarray, positions: Positions) -> np.nd
     top = np.concatenate([np.zeros((ncol, 1)), np.cumsum(optical_depth, axis=1)], axis=1)
     layer = positions.layer
     return top[:, layer] + positions.fraction * optical_depth[:, layer]
+
+
+# ------------------------------------------------------------------ pseudo-spherical beam
+
+#: Smallest effective secant of a layer in the pseudo-spherical beam. Across a layer the
+#: slant optical depth can grow by less than the vertical one (near the horizon the ray to a
+#: lower level crosses the upper shells more steeply), and in twilight it can even shrink;
+#: the layer's beam source, an exponential in the vertical depth, then decays no faster
+#: than exp(-1e-6 t), i.e. it is held at its top value.
+SPHERICAL_SECANT_FLOOR = 1e-6
+
+
+def spherical_beam(factors: np.ndarray, reaches: np.ndarray,
+                   optical_depth: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Slant optical depth to each level and effective cosine of each layer.
+
+    The pseudo-spherical beam (Dahlback and Stamnes 1991): ``factors`` (column, sun, level,
+    layer) are :func:`lamina.spherical.air_mass_factors`, ``reaches`` (column, sun, level)
+    where the beam reaches a level, ``optical_depth`` (column, layer). Returns the slant
+    depth (column, sun, level), inf where the planet blocks the beam, and each layer's
+    cosine (column, sun, layer), its vertical over its slant optical depth (the secant at
+    least SPHERICAL_SECANT_FLOOR). The layer in which the shadow falls (top lit, bottom
+    dark) keeps the cosine of the layer above it (the top layer: its depth over the slant
+    depth to the top level); dark layers and empty ones get 1 (their source is zero or
+    empty).
+    """
+    slant = np.einsum("csij,cj->csi", factors, optical_depth, optimize=False)
+    slant = np.where(reaches, slant, np.inf)
+    tau = np.broadcast_to(optical_depth[:, None, :], slant[..., 1:].shape)
+    safe = np.where(tau > 0.0, tau, 1.0)
+    with np.errstate(invalid="ignore"):
+        step = slant[..., 1:] - slant[..., :-1]           # inf - inf: nan in dark layers
+    finite = np.isfinite(step)
+    secant = np.where(finite & (tau > 0.0),
+                      np.maximum(np.where(finite, step, 0.0) / safe, SPHERICAL_SECANT_FLOOR),
+                      1.0)
+    top = slant[..., :1]
+    first = np.where((tau[..., :1] > 0.0) & np.isfinite(top),
+                     np.maximum(np.where(np.isfinite(top), top, 0.0) / safe[..., :1],
+                                SPHERICAL_SECANT_FLOOR), 1.0)
+    above = np.concatenate([first, secant[..., :-1]], axis=-1)
+    partial = np.isfinite(slant[..., :-1]) & ~np.isfinite(slant[..., 1:])
+    secant = np.where(partial, above, secant)
+    return np.ascontiguousarray(slant), np.ascontiguousarray(1.0 / secant)
+
+
+def slant_at_positions(slant: np.ndarray, cosine: np.ndarray, optical_depth: np.ndarray,
+                       positions: Positions) -> np.ndarray:
+    """Slant optical depth of the beam to each output position, (column, sun, position).
+
+    On a level it is that level's; inside a layer the beam decays from the layer's top with
+    the layer's cosine, as its source does in the kernel.
+    """
+    layer, fraction = positions.layer, positions.fraction
+    inside = slant[:, :, layer] + fraction * optical_depth[:, None, layer] / cosine[:, :, layer]
+    return np.where(fraction == 1.0, slant[:, :, np.minimum(layer + 1, slant.shape[-1] - 1)],
+                    np.where(fraction == 0.0, slant[:, :, layer], inside))

@@ -28,6 +28,8 @@ from lamina._solver.common import (
     Views,
     depth_at_positions,
     scattering_cosines,
+    slant_at_positions,
+    spherical_beam,
 )
 
 
@@ -39,6 +41,9 @@ def unscale_direct_beam(block: Block, layers: Layers, positions: Positions,
     outputs' coordinate ``cumulative_optical_depth``.
     """
     depth = depth_at_positions(block.optical_depth, positions)
+    if block.air_mass_factors is not None:
+        _unscale_spherical_beam(block, layers, positions, fields)
+        return depth
     depth_s = depth_at_positions(layers.optical_depth, positions)
     s = block.sun_irradiance[:, :, None]
     cos0 = block.beam_cosines[:, :, None]
@@ -50,6 +55,30 @@ def unscale_direct_beam(block: Block, layers: Layers, positions: Positions,
     fields.mean_intensity = fields.mean_intensity + direct_scaled / (4.0 * np.pi * cos0)
     fields.flux_down_direct = direct
     return depth
+
+
+def _unscale_spherical_beam(block: Block, layers: Layers, positions: Positions,
+                            fields: Fields) -> None:
+    """unscale_direct_beam for the pseudo-spherical beam: slant depths, the true mu0.
+
+    Beyond 90 degrees the beam crosses a lit level upward: mu0 S T is then negative (the
+    direct beam adds to the net upward flux); the mean intensity gets S T / (4 pi).
+    """
+    slant = _slant_depths(block, block.optical_depth, positions)
+    slant_s = _slant_depths(block, layers.optical_depth, positions)
+    s = block.sun_irradiance[:, :, None]
+    cos0 = block.beam_cosines[:, :, None]
+    beam, beam_scaled = s * np.exp(-slant), s * np.exp(-slant_s)
+    fields.flux_down_diffuse = fields.flux_down_diffuse + cos0 * (beam_scaled - beam)
+    fields.mean_intensity = fields.mean_intensity + beam_scaled / (4.0 * np.pi)
+    fields.flux_down_direct = cos0 * beam + 0.0     # (+ 0: no -0.0 in the shadow)
+
+
+def _slant_depths(block: Block, optical_depth: np.ndarray, positions: Positions
+                  ) -> np.ndarray:
+    """The beam's slant optical depth to each output position (column, sun, position)."""
+    slant, cosine = spherical_beam(block.air_mass_factors, block.beam_reaches, optical_depth)
+    return slant_at_positions(slant, cosine, optical_depth, positions)
 
 
 def correct_radiance(block: Block, layers: Layers, settings: BlockSettings,
@@ -87,9 +116,7 @@ def _single_scattering_correction(block: Block, layers: Layers, positions: Posit
     albedo_s, moments_s = layers.single_scattering_albedo, layers.phase_moments
     mu0 = block.beam_cosines
     ncol, nsun = mu0.shape
-    cosine = scattering_cosines(mu0, views)                     # (col, sun, 2, vz, va)
-    shape = cosine.shape[1:]
-    flat = cosine.reshape(ncol, 1, -1)
+    shape = (nsun, 2, views.cosines.size, views.azimuth_radians.size)
     # the correction is linear in w P of each layer: one contraction of the difference of
     # the weighted moments, w_exact chi_l (every moment) - w' chi'_l (the truncated ones)
     remaining = 1.0 - albedo * layers.truncation
@@ -100,14 +127,19 @@ def _single_scattering_correction(block: Block, layers: Layers, positions: Posit
     difference = np.zeros((ncol, moments.shape[1], terms))
     difference[..., :moments.shape[-1]] = albedo_exact[..., None] * moments
     difference[..., :moments_s.shape[-1]] -= albedo_s[..., None] * moments_s
-    table = phase.legendre_polynomials(flat[:, 0, :], terms)
+    table = _per_distinct_suns(mu0, lambda cos0: phase.legendre_polynomials(
+        scattering_cosines(cos0, views).reshape(cos0.shape[0], -1), terms))
     weighted_phase = _contract(difference, table).reshape(ncol, moments.shape[1], *shape)
     correction = np.zeros((ncol, nsun, positions.layer.size, 2, *shape[2:]))
     tau_s = layers.optical_depth
+    spherical = {}
+    if block.air_mass_factors is not None:
+        slant, cosine = spherical_beam(block.air_mass_factors, block.beam_reaches, tau_s)
+        spherical = {"beam_slant_optical_depth": slant, "beam_layer_cosine": cosine}
     _kernel.single_scattering(
         tau_s, np.ones_like(tau_s), np.ascontiguousarray(weighted_phase), mu0,
         np.ascontiguousarray(block.sun_irradiance, dtype=np.float64), positions.layer,
-        positions.fraction, views.cosines, 1.0, correction)
+        positions.fraction, views.cosines, 1.0, correction, **spherical)
     return correction
 
 
@@ -141,25 +173,66 @@ def _aureole_correction(block: Block, truncation: np.ndarray, positions: Positio
                                        moments[..., streams:] / safe, 0.0)
     peak[..., nmom:] = 0.0
     weight = albedo * truncation * tau                                    # (col, layer)
-    above = np.concatenate([np.zeros((ncol, 1, peak.shape[-1])),
-                            np.cumsum(weight[..., None] * peak, axis=1)], axis=1)
-    partial = (fraction * weight[:, layer])[..., None] * peak[:, layer]
-    cumulative = above[:, layer] + partial                               # (col, pos, l)
-    depth = depth_at_positions(tau, positions)
-    cos0 = mu0[:, :, None, None]                                          # (col, sun, 1, 1)
-    x = cumulative[:, None] / cos0                                        # (col, sun, pos, l)
+    if block.air_mass_factors is not None:
+        x, attenuation = _spherical_peak_paths(block, weight[..., None] * peak, positions)
+    else:
+        above = np.concatenate([np.zeros((ncol, 1, peak.shape[-1])),
+                                np.cumsum(weight[..., None] * peak, axis=1)], axis=1)
+        partial = (fraction * weight[:, layer])[..., None] * peak[:, layer]
+        cumulative = above[:, layer] + partial                           # (col, pos, l)
+        depth = depth_at_positions(tau, positions)
+        cos0 = mu0[:, :, None, None]                                      # (col, sun, 1, 1)
+        x = cumulative[:, None] / cos0                                    # (col, sun, pos, l)
+        attenuation = depth[:, None, :, None] / cos0
     total = x[..., :1]
-    attenuation = depth[:, None, :, None] / cos0
     coefficients = (np.exp(x - attenuation) - np.exp(-attenuation)
                     - x * np.exp(total - attenuation))
     coefficients *= irradiance[:, :, None, None] / (4.0 * np.pi)
     # scattering angle of each downward view direction from the beam
-    cosine = scattering_cosines(mu0, views)[:, :, 1]                      # (col, sun, vz, va)
     terms = coefficients.shape[-1]
-    table = phase.legendre_polynomials(cosine.reshape(*cosine.shape[:2], -1), terms)
+    table = _per_distinct_suns(mu0, lambda cos0: phase.legendre_polynomials(
+        scattering_cosines(cos0, views)[:, :, 1].reshape(*cos0.shape, -1), terms))
     weighted = coefficients * (2.0 * np.arange(terms) + 1.0)
     summed = np.einsum("cspl,cskl->cspk", weighted, table, optimize=False)
-    return summed.reshape(*summed.shape[:3], *cosine.shape[2:])
+    return summed.reshape(*summed.shape[:3], views.cosines.size, views.azimuth_radians.size)
+
+
+def _spherical_peak_paths(block: Block, weighted_peak: np.ndarray, positions: Positions
+                          ) -> tuple[np.ndarray, np.ndarray]:
+    """The aureole's x_l and slant depth along the pseudo-spherical beam's path.
+
+    ``weighted_peak`` (col, layer, l) is w f dt r_l of each layer; along the beam's path
+    to level i it adds up with the air-mass factors, sum_j factors[i, j] w_j f_j dt_j r_jl,
+    and inside a layer with the layer's secant. Returns (col, sun, pos, l) and
+    (col, sun, pos, 1); dark positions get x = 0 and an infinite depth.
+    """
+    tau = block.optical_depth
+    slant, cosine = spherical_beam(block.air_mass_factors, block.beam_reaches, tau)
+    levels = np.einsum("csij,cjl->csil", block.air_mass_factors, weighted_peak,
+                       optimize=False)
+    layer, fraction = positions.layer, positions.fraction
+    x = levels[:, :, layer] + (fraction[:, None] * weighted_peak[:, None, layer]
+                               / cosine[:, :, layer, None])
+    x = np.where((fraction == 1.0)[:, None], levels[:, :, np.minimum(layer + 1, tau.shape[1])],
+                 x)
+    depth = slant_at_positions(slant, cosine, tau, positions)[..., None]
+    x = np.where(np.isfinite(depth), x, 0.0)
+    return x, depth
+
+
+def _per_distinct_suns(mu0: np.ndarray, table) -> np.ndarray:
+    """``table(mu0)`` computed once per distinct row of mu0 (column, sun), then gathered.
+
+    Columns that share their sun angles (the wavelengths of a spectrum) share every table
+    of the scattering angle; the values are those of the direct computation.
+    """
+    distinct, inverse = np.unique(mu0, axis=0, return_inverse=True)
+    if distinct.shape[0] == mu0.shape[0]:
+        return table(mu0)
+    values = table(distinct)
+    if distinct.shape[0] == 1:      # a read-only view: no copy per column
+        return np.broadcast_to(values, (mu0.shape[0], *values.shape[1:]))
+    return values[np.reshape(inverse, -1)]
 
 
 def _contract(moments: np.ndarray, table: np.ndarray) -> np.ndarray:

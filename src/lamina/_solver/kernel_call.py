@@ -14,7 +14,14 @@ from __future__ import annotations
 import numpy as np
 
 from lamina import _kernel
-from lamina._solver.common import Block, BlockSettings, Fields, Layers, SolverError
+from lamina._solver.common import (
+    Block,
+    BlockSettings,
+    Fields,
+    Layers,
+    SolverError,
+    spherical_beam,
+)
 from lamina.quadrature import double_gauss
 
 #: The kernel's status code for a non-finite result; codes 1 and 2 are the Cholesky
@@ -48,10 +55,20 @@ def solve_block(block: Block, layers: Layers, settings: BlockSettings) -> Fields
         settings.max_fourier_terms, settings.fourier_tolerance, settings.thermal,
         flux_up, flux_down, mean_intensity, radiance, terms, status,
         **(block.surface or {}),
+        **_spherical_keywords(block, layers),
     )
     _raise_failure(status)
     return Fields(flux_up=flux_up, flux_down_diffuse=flux_down,
                   mean_intensity=mean_intensity, radiance=radiance, fourier_terms=terms)
+
+
+def _spherical_keywords(block: Block, layers: Layers) -> dict[str, np.ndarray]:
+    """The pseudo-spherical beam of the scaled layers for the kernel (none: plane-parallel)."""
+    if block.air_mass_factors is None:
+        return {}
+    slant, cosine = spherical_beam(block.air_mass_factors, block.beam_reaches,
+                                   layers.optical_depth)
+    return {"beam_slant_optical_depth": slant, "beam_layer_cosine": cosine}
 
 
 def _raise_failure(status: np.ndarray) -> None:

@@ -45,8 +45,13 @@ def check_options(
     max_fourier_terms: object,
     gravity: object,
     heat_capacity: object,
+    spherical: bool = False,
 ) -> Options:
-    """Every option of :func:`lamina.solve` except the thermal source, checked."""
+    """Every option of :func:`lamina.solve` except the thermal source, checked.
+
+    ``spherical``: a curved planet's pseudo-spherical beam, whose sun may stand up to 180
+    degrees from the zenith (the beam must reach some level: checked with the geometry).
+    """
     streams = _check_streams(streams)
     tolerance = float(as_float_array(fourier_tolerance, "fourier_tolerance"))
     if not (np.isfinite(tolerance) and tolerance > 0.0):
@@ -69,7 +74,8 @@ def check_options(
                              "beam (degrees)")
         sun_irradiance = None   # a sun of zero irradiance is no sun
     zenith, sun_list = sun_geometry(0.0 if sun_zenith is None else sun_zenith)
-    check_option_values(zenith, "sun_zenith", low=0.0, high=90.0, high_open=True)
+    check_option_values(zenith, "sun_zenith", low=0.0, high=180.0 if spherical else 90.0,
+                        high_open=True)
     extra = extra_dims(atmosphere)
     irradiance = option_array(_default(sun_irradiance, 1.0 if beam else 0.0),
                               "sun_irradiance", extra)

@@ -58,6 +58,10 @@ def surface_arrays(surface: object, options: Options, thermal: bool) -> SurfaceA
     if surface is None:
         return None
     zenith = options.sun_zenith
+    # a curved planet's sun may stand at or below the ground's horizon (planet_radius): the
+    # ground then gets no beam (the kernel weights these terms by max(mu0, 0) = 0), and the
+    # BRDF is evaluated at 85 degrees instead, inside every surface's checked range
+    zenith = zenith.where(zenith < 90.0, 85.0)
     if options.beam and zenith.chunks is None:
         # the energy check at the run's own sun angles (the surface checked its grid)
         surface.check_energy(np.unique(np.asarray(zenith.values)))
