@@ -148,6 +148,63 @@ def input_hash(atmosphere: xr.Dataset, solve_kwargs: Mapping[str, Any]) -> str:
     return digest.hexdigest()
 
 
+#: Copies of a block's inputs and outputs the solver holds at once (an upper estimate; the
+#: measured figures are in benchmarks/memory.py).
+_COPIES = 4
+
+
+def _available_memory() -> int | None:
+    """Bytes of memory available to a new allocation (Linux /proc/meminfo), or None."""
+    try:
+        with open("/proc/meminfo", encoding="ascii") as handle:
+            for line in handle:
+                if line.startswith("MemAvailable:"):
+                    return int(line.split()[1]) * 1024
+    except (OSError, ValueError, IndexError):
+        return None
+    return None
+
+
+def chunk_bytes(atmosphere: xr.Dataset, solve_kwargs: Mapping[str, Any],
+                chunk_size: int | None, dim: str | None = None) -> int:
+    """An estimate of the memory one chunk of a run takes while it is solved, in bytes."""
+    spectral = _spectral_dim(atmosphere, dim)
+    per_column = sum(int(np.prod([n for d, n in variable.sizes.items()
+                                  if d in ("layer", "level", "moment")]))
+                     for variable in atmosphere.data_vars.values())
+    views = np.size(solve_kwargs.get("view_zenith", [])) * max(
+        1, np.size(solve_kwargs.get("view_azimuth", [])))
+    levels = atmosphere.sizes.get("layer", 1) + 1
+    outputs = levels * (12 + 2 * views)
+    columns = int(np.prod([n for d, n in atmosphere.sizes.items()
+                           if d not in ("layer", "level", "moment")]))
+    if spectral is not None and chunk_size is not None:
+        columns = columns // atmosphere.sizes[spectral] * min(chunk_size,
+                                                             atmosphere.sizes[spectral])
+    columns *= max(1, np.size(solve_kwargs.get("sun_zenith", 0.0)))
+    return int(_COPIES * 8 * columns * (per_column + outputs))
+
+
+def check_memory(atmosphere: xr.Dataset, solve_kwargs: Mapping[str, Any],
+                 chunk_size: int | None, dim: str | None = None) -> None:
+    """Refuse, before anything is allocated, a chunk larger than the memory available."""
+    available = _available_memory()
+    if available is None:
+        return
+    need = chunk_bytes(atmosphere, solve_kwargs, chunk_size, dim)
+    if need <= available:
+        return
+    spectral = _spectral_dim(atmosphere, dim)
+    size = atmosphere.sizes[spectral] if spectral is not None else 1
+    step = size if chunk_size is None else min(chunk_size, size)
+    fits = max(1, int(step * available / 2 / need))
+    hint = (f"; a chunk size of about {fits} would fit (--chunk-size)" if spectral is not None
+            else "; reduce the number of columns, streams or output angles")
+    raise ValueError(f"the run needs about {need / 1e9:.1f} GB for each chunk of {step} "
+                     f"{spectral or 'columns'}, more than the {available / 1e9:.1f} GB "
+                     f"of memory available{hint}")
+
+
 # --------------------------------------------------------------------------------------------
 # The store: manifest, marks, template, regions
 # --------------------------------------------------------------------------------------------
