@@ -527,3 +527,32 @@ def test_dask_distributed_run_equals_eager():
             distributed.Client(cluster):
         computed = lazy.compute()  # the client is now the default scheduler
     xr.testing.assert_allclose(computed, eager)
+
+
+def _killing_solver(marker: Path):
+    """lamina.solve (4 streams) whose first call on 0.6 um kills its worker process."""
+    def solve(atmosphere, **kwargs):
+        import os
+
+        if 0.6 in np.round(atmosphere["wavelength"].values, 6) and not marker.exists():
+            marker.write_text("killed once")
+            os._exit(1)  # the worker dies: no exception, no result
+        return lamina.solve(atmosphere, **{"streams": 4, **kwargs})
+    return solve
+
+
+def test_run_on_a_cluster_survives_a_lost_worker(tmp_path):
+    """Chunks as tasks on two process workers; a killed worker's chunk is computed again."""
+    distributed = pytest.importorskip("distributed")
+    atmosphere = _atmosphere(n_wavelength=7).assign_coords(
+        wavelength=("wavelength", np.linspace(0.4, 1.0, 7), {"units": "um"}))
+    kwargs = {"sun_zenith": 35.0}
+    marker = tmp_path / "killed"
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                  dashboard_address=None) as cluster:
+        result = io.run_chunked(atmosphere, kwargs, tmp_path / "out.nc", 2, progress=False,
+                                solver=_killing_solver(marker),
+                                scheduler=cluster.scheduler_address)
+        assert marker.exists()  # a worker did die during the run
+    xr.testing.assert_allclose(result.load(), _solve(atmosphere, **kwargs))
+    assert _listing(tmp_path) == ["killed", "out.nc"]
