@@ -16,6 +16,8 @@ def as_float_array(value: object, name: str) -> np.ndarray:
     """Coerce to a C-contiguous float64 array, refusing non-numeric input."""
     if isinstance(value, str | bytes):
         raise TypeError(f"{name} must be numeric; got the string {value!r}")
+    if np.iscomplexobj(value):  # numpy would drop the imaginary parts with a warning
+        raise TypeError(f"{name} must be real numbers; got complex values")
     try:
         array = np.asarray(value, dtype=np.float64)
     except (TypeError, ValueError) as error:
