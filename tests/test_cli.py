@@ -69,7 +69,9 @@ def test_run_writes_the_solver_result(tmp_path, capsys):
     assert result.attrs["title"] == "cli test"
     assert result.attrs["scenario_file"] == "scenario.toml"
     assert result["wavelength"].attrs["units"] == "um"
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["out.nc", "scenario.toml"]
+    # the run's lock stays behind as an empty hidden file (a lock file must not be removed)
+    assert sorted(p.name for p in tmp_path.iterdir()) == [".out.nc.lock", "out.nc",
+                                                          "scenario.toml"]
 
 
 def test_run_resume_after_interruption(tmp_path, capsys, monkeypatch):
@@ -158,7 +160,7 @@ def test_demo_then_plot(tmp_path, capsys):
     out = capsys.readouterr().out
     assert out.startswith("lamina demo: Tessaly (fictional planet)")
     assert "albedo at the top:" in out and "surface: down" in out
-    assert sorted(p.name for p in folder.iterdir()) == [
+    assert sorted(p.name for p in folder.iterdir() if p.suffix != ".lock") == [
         "albedo_spectrum.png", "demo.nc", "flux_profiles.png", "heating_rate.png",
         "mean_intensity.png", "phase_curve.png", "planet.nc", "radiance.png", "spectrum.png"]
     assert "the planet seen whole" in out and "Bond albedo" in out
@@ -308,3 +310,105 @@ def test_plot_refuses_a_netcdf_file_lamina_did_not_write(tmp_path, capsys):
     assert err.startswith(f"lamina plot: error: {foreign}: not a lamina result file")
     assert err.count("\n") == 1
     assert not list(tmp_path.glob("*.png"))
+
+
+def _interrupt_on_call(monkeypatch, number: int, error: BaseException) -> list:
+    real_solve = lamina.solve
+    calls: list = []
+
+    def solve(atmosphere, **kwargs):
+        calls.append(atmosphere["wavelength"].values.tolist())
+        if len(calls) == number:
+            raise error
+        return real_solve(atmosphere, **kwargs)
+
+    monkeypatch.setattr(lamina, "solve", solve)
+    return calls
+
+
+def test_resume_without_the_chunk_size(tmp_path, capsys, monkeypatch):
+    path = scenario_file(tmp_path)
+    output = tmp_path / "out.nc"
+    _interrupt_on_call(monkeypatch, 2, KeyboardInterrupt())
+    assert main(["run", str(path), "-o", str(output), "--chunk-size", "2",
+                 "--no-progress"]) == 130
+    capsys.readouterr()
+    calls = _interrupt_on_call(monkeypatch, 0, KeyboardInterrupt())
+    assert main(["run", str(path), "-o", str(output), "--resume", "--no-progress"]) == 0
+    assert calls == [[0.65, 0.75], [0.85]]  # the chunks of 2 on disk, not one of 5
+    assert capsys.readouterr().err == ""
+
+
+def test_corrected_rerun_after_a_failure_starts_afresh(tmp_path, capsys, monkeypatch):
+    path = scenario_file(tmp_path)
+    output = tmp_path / "out.nc"
+    _interrupt_on_call(monkeypatch, 2, RuntimeError("solver gave up"))
+    assert main(["run", str(path), "-o", str(output), "--chunk-size", "2",
+                 "--no-progress"]) == 1
+    assert capsys.readouterr().err == "lamina run: solver failed: solver gave up\n"
+    path.write_text(textwrap.dedent(SCENARIO.replace("zenith = 40", "zenith = 30")))
+    calls = _interrupt_on_call(monkeypatch, 0, KeyboardInterrupt())
+    for arguments in ([], ["--resume"]):  # the corrected run starts afresh either way
+        assert main(["run", str(path), "-o", str(output), "--chunk-size", "2",
+                     "--no-progress", *arguments]) == 0
+    assert len(calls) == 3 + 3  # first run: all three chunks; its rerun: all three again
+    assert "starting afresh" in capsys.readouterr().err
+    with xr.open_dataset(output) as result:
+        assert float(result["sun_zenith"]) == 30.0
+
+
+def test_two_runs_on_one_output(tmp_path, capsys):
+    from lamina import _chunked
+
+    path = scenario_file(tmp_path)
+    output = tmp_path / "out.nc"
+    holder = subprocess.Popen(
+        [sys.executable, "-c", "import sys, filelock\nwith filelock.FileLock(sys.argv[1]):\n"
+         "    print('held', flush=True); sys.stdin.read()", str(_chunked.lock_path(output))],
+        stdin=subprocess.PIPE, stdout=subprocess.PIPE, text=True)
+    try:
+        assert holder.stdout.readline() == "held\n"
+        assert main(["run", str(path), "-o", str(output), "--no-progress"]) == 2
+        err = capsys.readouterr().err
+        assert err.startswith(f"lamina run: error: another lamina run is writing {output} (")
+        assert err.count("\n") == 1 and not output.exists()
+        assert main(["run", str(path), "-o", str(output), "--wait", "0.1",
+                     "--no-progress"]) == 2
+        assert "after waiting 0.1 s" in capsys.readouterr().err
+    finally:
+        holder.communicate("")
+    assert main(["run", str(path), "-o", str(output), "--wait", "10", "--no-progress"]) == 0
+
+
+def test_oversized_request_is_refused_before_it_starts(tmp_path, capsys, monkeypatch):
+    from lamina import _chunked
+
+    path = scenario_file(tmp_path)
+    calls = _interrupt_on_call(monkeypatch, 0, KeyboardInterrupt())
+    monkeypatch.setattr(_chunked, "_available_memory", lambda: 1000)
+    assert main(["run", str(path), "-o", str(tmp_path / "out.nc"), "--no-progress"]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("lamina run: error: the run needs about ")
+    assert "GB of memory available; a chunk size of about " in err and err.count("\n") == 1
+    assert calls == []
+
+
+def test_a_full_disk_is_said_in_words(tmp_path, capsys, monkeypatch):
+    import errno
+
+    path = scenario_file(tmp_path)
+    _interrupt_on_call(monkeypatch, 2, OSError(errno.ENOSPC, "No space left on device",
+                                                 str(tmp_path / "out.nc.zarr")))
+    assert main(["run", str(path), "-o", str(tmp_path / "out.nc"), "--chunk-size", "2",
+                 "--no-progress"]) == 1
+    assert capsys.readouterr().err == (
+        f"lamina run: error: the disk is full (no space left writing {tmp_path}/out.nc.zarr); "
+        "free some space; rerun with --resume to continue\n")
+
+
+@pytest.mark.parametrize(("option", "value"), [("--wait", "-1"), ("--wait", "soon"),
+                                                ("--chunk-size", "2.5")])
+def test_bad_run_options_are_one_line(option, value, capsys):
+    assert main(["run", "x.toml", "-o", "y.nc", option, value]) == 2
+    err = capsys.readouterr().err.splitlines()
+    assert err[-1].startswith(f"lamina run: argument {option}: expected ")

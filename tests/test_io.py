@@ -176,6 +176,25 @@ def test_run_chunked_checks_the_path_before_computing(tmp_path):
 # --------------------------------------------------------------------------------------------
 
 
+def _listing(folder: Path) -> list[str]:
+    """The files a user sees in ``folder`` (the run's lock is a hidden empty file)."""
+    names = sorted(p.name for p in folder.iterdir())
+    assert all(not name.endswith(".tmp") for name in names), names
+    return [name for name in names if not name.endswith(".lock")]
+
+
+def _marks(path) -> list[int]:
+    import zarr
+
+    return zarr.open_group(io.store_path(path), mode="r")["lamina_chunk_done"][:].tolist()
+
+
+def _manifest(path) -> dict:
+    import zarr
+
+    return json.loads(zarr.open_group(io.store_path(path), mode="r").attrs["lamina_run"])
+
+
 @pytest.mark.parametrize("chunk_size", [1, 3, 10, 25, None])
 def test_chunked_run_equals_unchunked(tmp_path, chunk_size):
     atmosphere = _atmosphere()
@@ -191,7 +210,37 @@ def test_chunked_run_equals_unchunked(tmp_path, chunk_size):
         xr.testing.assert_allclose(back.load(), expected)
     assert counter.calls == (1 if chunk_size is None else -(-10 // chunk_size))
     assert sorted(counter.points) == sorted(atmosphere["wavelength"].values.tolist())
-    assert [p.name for p in tmp_path.iterdir()] == ["out.nc"]  # the parts are gone
+    assert _listing(tmp_path) == ["out.nc"]  # the store is gone
+
+
+def test_lazy_atmosphere_runs_like_an_eager_one(tmp_path):
+    atmosphere = _atmosphere()
+    kwargs = {"sun_zenith": 30.0}
+    lazy = atmosphere.chunk({"wavelength": 4})
+    assert io.input_hash(lazy, kwargs) == io.input_hash(atmosphere, kwargs)
+    assert io.input_hash(atmosphere.chunk({"wavelength": 3}), kwargs) == io.input_hash(
+        atmosphere, kwargs)  # the hash does not depend on the input's chunks
+    result = io.run_chunked(lazy, kwargs, tmp_path / "lazy.nc", 3, progress=False,
+                            solver=_solve)
+    xr.testing.assert_allclose(result, _solve(atmosphere, **kwargs))
+
+
+def test_zarr_output_is_the_store(tmp_path):
+    atmosphere = _atmosphere()
+    path = tmp_path / "out.zarr"
+    result = io.run_chunked(atmosphere, {"sun_zenith": 30.0}, path, 4, progress=False,
+                            attributes={"title": "zarr"}, solver=_solve)
+    assert io.store_path(path) == path
+    with xr.open_zarr(path, consolidated=False) as back:
+        assert back.attrs["title"] == "zarr"
+        xr.testing.assert_allclose(back.drop_vars("lamina_chunk_done").load(),
+                                   _solve(atmosphere, sun_zenith=30.0))
+    xr.testing.assert_allclose(result, _solve(atmosphere, sun_zenith=30.0))
+    # the finished store stays a resumable run: rerunning it computes nothing
+    again = Counter(_solve)
+    io.run_chunked(atmosphere, {"sun_zenith": 30.0}, path, progress=False, resume=True,
+                   solver=again)
+    assert again.calls == 0
 
 
 def test_resume_after_a_kill_computes_nothing_twice(tmp_path):
@@ -202,28 +251,52 @@ def test_resume_after_a_kill_computes_nothing_twice(tmp_path):
     killed = Counter(_solve, fail_on_call=3)
     with pytest.raises(KeyboardInterrupt):
         io.run_chunked(atmosphere, kwargs, path, 3, progress=False, solver=killed)
-    parts = io.parts_folder(path)
-    assert sorted(p.name for p in parts.iterdir()) == [
-        "manifest.json", "part-00000.nc", "part-00001.nc"]
-    assert not path.exists()
-    manifest = json.loads((parts / "manifest.json").read_text())
+    assert _listing(tmp_path) == ["out.nc.zarr"]
+    assert _marks(path) == [1, 1, 0, 0]
+    manifest = _manifest(path)
     assert manifest["chunks"] == 4 and manifest["chunk_size"] == 3
 
     # without resume, the unfinished run is not silently overwritten or mixed in
-    with pytest.raises(ValueError, match="holds an unfinished earlier run; pass resume=True"):
+    with pytest.raises(ValueError, match=r"holds an unfinished earlier run of the same inputs "
+                                         r"\(2 of 4 chunks done\); pass resume=True"):
         io.run_chunked(atmosphere, kwargs, path, 3, progress=False, solver=killed)
 
     (tmp_path / ".out.nc.x1y2.tmp").write_bytes(b"left by a final write killed outright")
     resumed = Counter(_solve)
     result = io.run_chunked(atmosphere, kwargs, path, 3, resume=True, progress=False,
                             solver=resumed)
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["out.nc"]
+    assert _listing(tmp_path) == ["out.nc"]
     xr.testing.assert_allclose(result, expected)
     assert resumed.calls == 2  # chunks 2 and 3 only
     computed = killed.points + resumed.points
     assert sorted(computed) == sorted(atmosphere["wavelength"].values.tolist())
     assert len(set(computed)) == len(computed)  # no wavelength computed twice
-    assert not parts.exists()
+
+
+def test_resume_without_the_chunk_size_uses_the_one_on_disk(tmp_path):
+    atmosphere = _atmosphere()
+    path = tmp_path / "out.nc"
+    with pytest.raises(KeyboardInterrupt):
+        io.run_chunked(atmosphere, {}, path, 3, progress=False,
+                       solver=Counter(_solve, fail_on_call=2))
+    resumed = Counter(_solve)
+    result = io.run_chunked(atmosphere, {}, path, resume=True, progress=False,
+                            solver=resumed)
+    assert resumed.calls == 3  # chunks 1, 2, 3 of size 3 (not one chunk of 10)
+    assert sorted(resumed.points) == sorted(atmosphere["wavelength"].values[3:].tolist())
+    xr.testing.assert_allclose(result, _solve(atmosphere))
+
+
+def test_a_different_chunk_size_starts_afresh(tmp_path, capsys):
+    atmosphere = _atmosphere()
+    path = tmp_path / "out.nc"
+    with pytest.raises(KeyboardInterrupt):
+        io.run_chunked(atmosphere, {}, path, 3, progress=False,
+                       solver=Counter(_solve, fail_on_call=2))
+    again = Counter(_solve)
+    io.run_chunked(atmosphere, {}, path, 4, resume=True, progress=False, solver=again)
+    assert again.calls == 3
+    assert "chunk size 4 asked for, 3 on disk; starting afresh" in capsys.readouterr().err
 
 
 def _history(path) -> list[str]:
@@ -235,7 +308,7 @@ def _history(path) -> list[str]:
 def test_history_holds_one_entry_per_action(tmp_path, chunk_size):
     # CF conventions (section 2.6.2): "history" is an audit trail, one line per program run
     # that modified the file. A chunked run computes once and writes one file: two lines,
-    # whatever the number of chunks (the temporary part files are no actions on the result).
+    # whatever the number of chunks (the store is no action on the result).
     atmosphere = _atmosphere()
     path = tmp_path / "out.nc"
     for _ in range(2):  # re-running to the same path starts a new file, not a longer trail
@@ -260,7 +333,8 @@ def test_history_holds_one_entry_per_action(tmp_path, chunk_size):
     assert len(_history(tmp_path / "resumed.nc")) == 2
 
 
-def test_resume_with_different_inputs_is_refused(tmp_path):
+@pytest.mark.parametrize("resume", [False, True])
+def test_changed_inputs_start_afresh_and_say_so(tmp_path, capsys, resume):
     atmosphere = _atmosphere()
     path = tmp_path / "out.nc"
     with pytest.raises(KeyboardInterrupt):
@@ -268,64 +342,116 @@ def test_resume_with_different_inputs_is_refused(tmp_path):
                        solver=Counter(_solve, fail_on_call=2))
     changed = atmosphere.copy(deep=True)
     changed["optical_depth"][0, 0] += 1e-9
-    with pytest.raises(ValueError, match="refusing to resume .*out.nc.parts: the inputs "
-                                         r"\(atmosphere, solver options"):
-        io.run_chunked(changed, {"sun_zenith": 20.0}, path, 3, resume=True, progress=False,
-                       solver=_solve)
-    with pytest.raises(ValueError, match="refusing to resume .*: the inputs"):
-        io.run_chunked(atmosphere, {"sun_zenith": 21.0}, path, 3, resume=True,
-                       progress=False, solver=_solve)
-    with pytest.raises(ValueError, match="refusing to resume .*: the chunk size differs"):
-        io.run_chunked(atmosphere, {"sun_zenith": 20.0}, path, 4, resume=True,
-                       progress=False, solver=_solve)
-    # the unchanged run still resumes
-    result = io.run_chunked(atmosphere, {"sun_zenith": 20.0}, path, 3, resume=True,
-                            progress=False, solver=_solve)
-    xr.testing.assert_allclose(result, _solve(atmosphere, sun_zenith=20.0))
+    for inputs, kwargs in ((changed, {"sun_zenith": 20.0}), (atmosphere, {"sun_zenith": 21.0})):
+        with pytest.raises(KeyboardInterrupt):  # each changed run starts and stops again
+            io.run_chunked(inputs, kwargs, path, 3, resume=resume, progress=False,
+                           solver=Counter(_solve, fail_on_call=2))
+        assert capsys.readouterr().err == (
+            f"lamina: {io.store_path(path)}: the inputs (atmosphere, solver options, variables "
+            "or lamina version) differ from those of the run stored there; starting afresh\n")
+        assert _marks(path) == [1, 0, 0, 0]
+    # the run of the last inputs resumes where it stopped
+    again = Counter(_solve)
+    result = io.run_chunked(atmosphere, {"sun_zenith": 21.0}, path, 3, resume=True,
+                            progress=False, solver=again)
+    assert again.calls == 3
+    xr.testing.assert_allclose(result, _solve(atmosphere, sun_zenith=21.0))
+
+
+def test_failure_in_the_first_chunk_then_a_corrected_rerun(tmp_path):
+    atmosphere = _atmosphere()
+    path = tmp_path / "out.nc"
+    wrong = atmosphere.copy(deep=True)
+    wrong["single_scattering_albedo"][0, 0] = 1.5  # a mistake the solver reports
+    with pytest.raises(ValueError, match="single_scattering_albedo"):
+        io.run_chunked(wrong, {}, path, 3, progress=False, solver=_solve)
+    assert _listing(tmp_path) == []  # nothing was written
+    result = io.run_chunked(atmosphere, {}, path, 3, progress=False, solver=_solve)
+    xr.testing.assert_allclose(result, _solve(atmosphere))
+    assert _listing(tmp_path) == ["out.nc"]
 
 
 def test_resume_after_kill_between_final_write_and_cleanup(tmp_path, monkeypatch):
+    from lamina import _chunked
+
     atmosphere = _atmosphere()
     path = tmp_path / "out.nc"
 
     def killed_cleanup(folder):
         raise KeyboardInterrupt
 
-    monkeypatch.setattr(io.shutil, "rmtree", killed_cleanup)
-    monkeypatch.setattr(io.Path, "rename", lambda self, target: killed_cleanup(self))
+    monkeypatch.setattr(_chunked, "_retire", killed_cleanup)
     first = Counter(_solve)
     with pytest.raises(KeyboardInterrupt):
         io.run_chunked(atmosphere, {}, path, 4, progress=False, solver=first)
     monkeypatch.undo()
-    assert path.is_file() and io.parts_folder(path).is_dir()
+    assert path.is_file() and io.store_path(path).is_dir()
     again = Counter(_solve)
     result = io.run_chunked(atmosphere, {}, path, 4, resume=True, progress=False, solver=again)
     assert again.calls == 0
     xr.testing.assert_allclose(result, _solve(atmosphere))
 
 
-def test_kill_while_removing_the_parts_leaves_a_clean_state(tmp_path, monkeypatch):
+def test_kill_while_removing_the_store_leaves_a_clean_state(tmp_path, monkeypatch):
+    from lamina import _chunked
+
     atmosphere = _atmosphere()
     path = tmp_path / "out.nc"
-    real_rmtree = io.shutil.rmtree
+    real_rmtree = _chunked._rmtree
 
     def killed_half_way(folder):
         files = sorted(Path(folder).iterdir())
         for file in files[: len(files) // 2]:
-            file.unlink()
+            if file.is_dir():
+                real_rmtree(file)
+            else:
+                file.unlink()
         raise KeyboardInterrupt
 
-    monkeypatch.setattr(io.shutil, "rmtree", killed_half_way)
+    monkeypatch.setattr(_chunked, "_rmtree", killed_half_way)
     with pytest.raises(KeyboardInterrupt):
         io.run_chunked(atmosphere, {}, path, 4, progress=False, solver=_solve)
-    monkeypatch.setattr(io.shutil, "rmtree", real_rmtree)
-    assert path.is_file() and not io.parts_folder(path).exists()
+    monkeypatch.setattr(_chunked, "_rmtree", real_rmtree)
+    assert path.is_file() and not io.store_path(path).exists()
     # a new run is not confused by the half-removed leftovers, and clears them
     again = Counter(_solve)
     io.run_chunked(atmosphere, {}, path, 4, progress=False, solver=again)
     assert again.calls == 3
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["out.nc"]
+    assert _listing(tmp_path) == ["out.nc"]
 
+
+_HOLD_LOCK = """
+import sys, filelock
+with filelock.FileLock(sys.argv[1]):
+    print("held", flush=True)
+    sys.stdin.read()
+"""
+
+
+def test_a_second_run_on_the_same_output_is_refused(tmp_path):
+    import subprocess
+    import sys
+
+    from lamina import _chunked
+
+    path = tmp_path / "out.nc"
+    holder = subprocess.Popen([sys.executable, "-c", _HOLD_LOCK, str(_chunked.lock_path(path))],
+                              stdin=subprocess.PIPE, stdout=subprocess.PIPE, text=True)
+    try:
+        assert holder.stdout.readline() == "held\n"  # another process runs on out.nc
+        counter = Counter(_solve)
+        with pytest.raises(ValueError, match=r"^another lamina run is writing .*out.nc \(it "
+                                             r"holds .*\.out\.nc\.lock\); wait for it"):
+            io.run_chunked(_atmosphere(), {}, path, 4, progress=False, solver=counter)
+        with pytest.raises(ValueError, match="after waiting 0.2 s"):
+            io.run_chunked(_atmosphere(), {}, path, 4, progress=False, lock_timeout=0.2,
+                           solver=counter)
+        assert counter.calls == 0 and _listing(tmp_path) == []
+    finally:
+        holder.communicate("")
+    # the lock is free again once the other run ends
+    io.run_chunked(_atmosphere(), {}, path, 4, progress=False, lock_timeout=5, solver=_solve)
+    assert _listing(tmp_path) == ["out.nc"]
 
 def test_run_chunked_without_spectral_dim(tmp_path):
     atmosphere = _atmosphere().isel(wavelength=0, drop=True)
@@ -401,3 +527,32 @@ def test_dask_distributed_run_equals_eager():
             distributed.Client(cluster):
         computed = lazy.compute()  # the client is now the default scheduler
     xr.testing.assert_allclose(computed, eager)
+
+
+def _killing_solver(marker: Path):
+    """lamina.solve (4 streams) whose first call on 0.6 um kills its worker process."""
+    def solve(atmosphere, **kwargs):
+        import os
+
+        if 0.6 in np.round(atmosphere["wavelength"].values, 6) and not marker.exists():
+            marker.write_text("killed once")
+            os._exit(1)  # the worker dies: no exception, no result
+        return lamina.solve(atmosphere, **{"streams": 4, **kwargs})
+    return solve
+
+
+def test_run_on_a_cluster_survives_a_lost_worker(tmp_path):
+    """Chunks as tasks on two process workers; a killed worker's chunk is computed again."""
+    distributed = pytest.importorskip("distributed")
+    atmosphere = _atmosphere(n_wavelength=7).assign_coords(
+        wavelength=("wavelength", np.linspace(0.4, 1.0, 7), {"units": "um"}))
+    kwargs = {"sun_zenith": 35.0}
+    marker = tmp_path / "killed"
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                  dashboard_address=None) as cluster:
+        result = io.run_chunked(atmosphere, kwargs, tmp_path / "out.nc", 2, progress=False,
+                                solver=_killing_solver(marker),
+                                scheduler=cluster.scheduler_address)
+        assert marker.exists()  # a worker did die during the run
+    xr.testing.assert_allclose(result.load(), _solve(atmosphere, **kwargs))
+    assert _listing(tmp_path) == ["killed", "out.nc"]

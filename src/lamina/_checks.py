@@ -12,10 +12,26 @@ from collections.abc import Sequence
 import numpy as np
 
 
+def _is_complex(value: object) -> bool:
+    if isinstance(value, complex | np.complexfloating):
+        return True
+    dtype = getattr(value, "dtype", None)
+    if dtype is not None:
+        return np.dtype(dtype).kind == "c"
+    if isinstance(value, list | tuple):
+        try:
+            return np.asarray(value).dtype.kind == "c"
+        except (TypeError, ValueError):  # ragged or mixed: the float conversion reports it
+            return False
+    return False
+
+
 def as_float_array(value: object, name: str) -> np.ndarray:
     """Coerce to a C-contiguous float64 array, refusing non-numeric input."""
     if isinstance(value, str | bytes):
         raise TypeError(f"{name} must be numeric; got the string {value!r}")
+    if _is_complex(value):  # numpy would drop the imaginary parts with a warning
+        raise TypeError(f"{name} must be real numbers; got complex values")
     try:
         array = np.asarray(value, dtype=np.float64)
     except (TypeError, ValueError) as error:

@@ -477,6 +477,7 @@ def make_atmosphere(
                 f"{name} must have one value per level (layers + 1 = {nlayer + 1}); "
                 f"got {data[name].sizes['level']}"
             )
+    _check_same_coordinates(data)
     try:
         ds = xr.Dataset(data)
     except ValueError as error:
@@ -496,6 +497,21 @@ def make_atmosphere(
     if MATRIX in ds:
         warn_about_polarized_excess(ds[MATRIX])
     return ds
+
+
+def _check_same_coordinates(data: Mapping[str, xr.DataArray | None]) -> None:
+    """Refuse inputs labelled with different coordinates (xarray would fill the gaps with NaN)."""
+    arrays = {name: array for name, array in data.items() if array is not None}
+    first: dict[str, tuple[str, xr.DataArray]] = {}
+    for name, array in arrays.items():
+        for dim in array.dims:
+            if dim not in array.indexes:
+                continue
+            if dim not in first:
+                first[dim] = (name, array[dim])
+            elif not array[dim].equals(first[dim][1]):
+                raise ValueError(f"{name} and {first[dim][0]} have different {dim!r} "
+                                 f"coordinates; give both the same {dim} values")
 
 
 def _with_extra_coordinates(ds: xr.Dataset, extra_dims: object) -> xr.Dataset:

@@ -2,7 +2,8 @@
 
 ::
 
-    lamina run SCENARIO.toml --output OUT.nc [--chunk-size N] [--resume] [--no-progress]
+    lamina run SCENARIO.toml --output OUT.nc [--chunk-size N] [--resume] [--wait SECONDS]
+               [--scheduler ADDRESS] [--no-progress]
     lamina plot RESULT.nc [--output DIR]
     lamina demo --output DIR [--no-progress]
     lamina validate [--report FILE.md] [--case NAME] [--no-progress]
@@ -14,6 +15,8 @@ reported as one line on standard error with exit status 2, without a traceback.
 from __future__ import annotations
 
 import argparse
+import errno
+import hashlib
 import sys
 import time
 from collections.abc import Sequence
@@ -53,6 +56,16 @@ def _positive_int(text: str) -> int:
     return value
 
 
+def _seconds(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a number of seconds; got {text!r}") from None
+    if not np.isfinite(value) or value < 0:
+        raise argparse.ArgumentTypeError(f"expected a number of seconds >= 0; got {text}")
+    return value
+
+
 def _build_parser() -> _Parser:
     parser = _Parser(
         prog="lamina",
@@ -78,7 +91,15 @@ def _build_parser() -> _Parser:
                      help="spectral points per chunk (default: [output] chunk_size of the "
                           "scenario, else all at once)")
     run.add_argument("--resume", action="store_true",
-                     help="continue an interrupted run, skipping the chunks already written")
+                     help="continue an interrupted run of the same inputs, skipping the chunks "
+                          "already written (a run of changed inputs starts afresh)")
+    run.add_argument("--wait", type=_seconds, default=0.0, metavar="SECONDS",
+                     help="wait this long for another run on the same output to finish "
+                          "(default: refuse at once)")
+    run.add_argument("--scheduler", metavar="ADDRESS",
+                     help="run the chunks on the dask.distributed scheduler at ADDRESS (e.g. "
+                          "tcp://host:8786); the output's folder must be shared with the "
+                          "workers")
     run.add_argument("--no-progress", action="store_true", help="draw no progress bar")
     run.set_defaults(handler=_run)
 
@@ -119,29 +140,50 @@ def _build_parser() -> _Parser:
 # --------------------------------------------------------------------------------------------
 
 
+def _scenario_hash(scenario: object, path: Path) -> str:
+    """SHA-256 of the scenario file, the profile file it reads, and lamina's version."""
+    from lamina import __version__
+
+    digest = hashlib.sha256(path.read_bytes())
+    profile = getattr(scenario, "profile", None)
+    if profile is not None:
+        with open(profile["file"], "rb") as handle:
+            for block in iter(lambda: handle.read(1 << 20), b""):
+                digest.update(block)
+    digest.update(f"lamina {__version__}".encode())
+    return digest.hexdigest()
+
+
 def _solve_scenario(scenario_path: Path, output: Path, chunk_size: int | None, resume: bool,
-                    progress: bool, loaded: list | None = None) -> xr.Dataset:
+                    progress: bool, loaded: list | None = None, *, wait: float = 0.0,
+                    scheduler: str | None = None) -> xr.Dataset:
     """Solve a scenario file into ``output``; ``loaded`` (a list) receives the scenario and
-    its atmosphere."""
+    its (lazy) atmosphere."""
+    from lamina._chunked import check_memory, stored_chunk_size
     from lamina.io import check_writable, run_chunked
     from lamina.scenario import load_scenario
 
     check_writable(output)  # before reading and computing anything
     scenario = load_scenario(scenario_path)
-    atmosphere = scenario.build_atmosphere()
+    if chunk_size is None:
+        chunk_size = scenario.chunk_size
+    # the atmosphere is built lazily, a chunk at a time, in the run's own chunks
+    step = chunk_size if chunk_size is not None else stored_chunk_size(output)
+    atmosphere = scenario.build_atmosphere(chunk_size=step)
+    kwargs = scenario.solve_kwargs()
+    check_memory(atmosphere, kwargs, step)  # an oversized request is refused before it starts
     if loaded is not None:
         loaded.extend([scenario, atmosphere])
     return run_chunked(
-        atmosphere, scenario.solve_kwargs(), output,
-        chunk_size if chunk_size is not None else scenario.chunk_size,
-        resume=resume, progress=progress, variables=scenario.variables,
-        attributes=scenario.attributes())
+        atmosphere, kwargs, output, chunk_size, resume=resume, progress=progress,
+        variables=scenario.variables, attributes=scenario.attributes(), scheduler=scheduler,
+        lock_timeout=wait, inputs_hash=_scenario_hash(scenario, scenario_path))
 
 
 def _run(args: argparse.Namespace) -> int:
     start = time.monotonic()
     result = _solve_scenario(args.scenario, args.output, args.chunk_size, args.resume,
-                             not args.no_progress)
+                             not args.no_progress, wait=args.wait, scheduler=args.scheduler)
     sizes = " x ".join(f"{size} {dim}" for dim, size in result.sizes.items())
     print(f"wrote {args.output} ({sizes}) in {time.monotonic() - start:.1f} s")
     return EXIT_OK
@@ -331,6 +373,12 @@ def main(argv: Sequence[str] | None = None) -> int:
         print(f"lamina {args.command}: error: {error}", file=sys.stderr)
         return EXIT_USAGE
     except OSError as error:
+        if error.errno in (errno.ENOSPC, errno.EDQUOT):
+            where = f" writing {error.filename}" if error.filename else ""
+            hint = "; rerun with --resume to continue" if args.command == "run" else ""
+            print(f"lamina {args.command}: error: the disk is full (no space left{where}); "
+                  f"free some space{hint}", file=sys.stderr)
+            return EXIT_FAILURE
         print(f"lamina {args.command}: error: {error}", file=sys.stderr)
         return EXIT_FAILURE
     except RuntimeError as error:  # lamina.SolverError: the solver could not finish

@@ -4,21 +4,19 @@ A result file is either complete or absent: :func:`write_netcdf` writes to a tem
 the target's folder, flushes it to disk and renames it over the target (a rename within one
 file system is atomic on POSIX), so a crash or a full disk never leaves half a file behind.
 
-:func:`run_chunked` splits a long spectral run into chunks along the spectral dim, solves them
-one at a time and keeps each finished chunk in its own file under ``<output>.parts/`` next to
-a small JSON manifest that records a hash of the inputs. After a crash or a kill, running again
-with ``resume=True`` skips the chunks already on disk, computes only the missing ones and
-refuses to continue a run whose inputs have changed.
+:func:`run_chunked` splits a long spectral run into chunks along the spectral dim and writes
+each finished chunk into its region of one Zarr store (``<output>.zarr``), whose attributes
+hold the run's manifest (a hash of the inputs, the chunk size). After a crash or a kill,
+running again with ``resume=True`` computes only the chunks not marked done; a run whose
+inputs have changed starts afresh. A file lock keeps a second run off the same output.
 """
 
 from __future__ import annotations
 
 import contextlib
 import datetime as _datetime
-import hashlib
 import json
 import os
-import shutil
 import tempfile
 from collections.abc import Callable, Mapping, Sequence
 from pathlib import Path
@@ -28,22 +26,18 @@ import numpy as np
 import xarray as xr
 
 from lamina._cf import cf_encode
-from lamina.progress import ProgressBar
 
 __all__ = [
     "SPECTRAL_DIMS",
     "check_writable",
     "input_hash",
-    "parts_folder",
     "run_chunked",
+    "store_path",
     "write_netcdf",
 ]
 
 #: Dims that :func:`run_chunked` recognises as spectral, in order of preference.
 SPECTRAL_DIMS = ("wavelength", "wavenumber", "frequency")
-
-_MANIFEST = "manifest.json"
-_MANIFEST_FORMAT = "lamina chunked run"
 
 
 def _version() -> str:
@@ -150,6 +144,31 @@ def _cf_keys(encoding: Mapping[str, Any]) -> dict[str, Any]:
     return {key: encoding[key] for key in ("_FillValue", "dtype") if key in encoding}
 
 
+#: Bytes in one netCDF chunk of a variable held in memory (about 4 MiB: large enough for the
+#: compression to pay, small enough for the library's chunk cache).
+CHUNK_BYTES = 1 << 22
+
+#: Compression of floating-point variables (benchmarks/write.py: level 1 with the shuffle
+#: filter compresses nearly as well as level 4, in a fraction of its time).
+COMPRESSION = {"zlib": True, "complevel": 1, "shuffle": True}
+
+
+def chunk_shape(variable: xr.Variable, target: int = CHUNK_BYTES) -> tuple[int, ...]:
+    """The netCDF chunk shape of a variable: its dask chunks, else blocks of ``target`` bytes.
+
+    A lazy variable is written chunk by chunk as it is computed, so its file chunks are its
+    dask chunks (the largest of each dim); a variable in memory is cut along its longest dims
+    until a chunk holds about ``target`` bytes.
+    """
+    if variable.chunks is not None:
+        return tuple(max(1, *sizes) for sizes in variable.chunks)
+    shape = [max(1, n) for n in variable.shape]
+    while int(np.prod(shape)) * variable.dtype.itemsize > target and max(shape) > 1:
+        longest = int(np.argmax(shape))
+        shape[longest] = -(-shape[longest] // 2)
+    return tuple(shape)
+
+
 def _umask() -> int:
     mask = os.umask(0o022)
     os.umask(mask)
@@ -187,7 +206,8 @@ def write_netcdf(dataset: xr.Dataset, path: str | os.PathLike[str], *,
     settings : mapping, optional
         Extra global attributes (e.g. solver settings) added to the dataset's own.
     compress : bool
-        Compress floating-point variables with zlib (lossless).
+        Compress floating-point variables (zlib level 1 after the shuffle filter: lossless),
+        in chunks that follow the data's dask chunks (:func:`chunk_shape`).
 
     Returns
     -------
@@ -208,7 +228,8 @@ def write_netcdf(dataset: xr.Dataset, path: str | os.PathLike[str], *,
     target = check_writable(path)
     prepared = _prepared(dataset, settings)
     encoding = {
-        name: {**_cf_keys(variable.encoding), "zlib": True, "complevel": 4}
+        name: {**_cf_keys(variable.encoding), **COMPRESSION,
+               "chunksizes": chunk_shape(variable)}
         for name, variable in prepared.variables.items()
         if compress and np.issubdtype(variable.dtype, np.floating) and variable.ndim > 0
     }
@@ -233,139 +254,30 @@ def write_netcdf(dataset: xr.Dataset, path: str | os.PathLike[str], *,
 
 
 # --------------------------------------------------------------------------------------------
-# Chunked, resumable runs
+# Chunked, resumable runs (the engine: lamina._chunked)
 # --------------------------------------------------------------------------------------------
 
 
-def _hash_update(digest: Any, value: Any) -> None:
-    """Feed a value (nested containers, arrays, DataArrays, Datasets) into a hash."""
-    if isinstance(value, xr.Dataset):
-        digest.update(b"Dataset")
-        for name in sorted(map(str, value.variables)):
-            digest.update(name.encode())
-            _hash_update(digest, value.variables[name])
-        _hash_update(digest, dict(value.attrs))
-    elif isinstance(value, xr.DataArray):
-        digest.update(b"DataArray")
-        _hash_update(digest, value.to_dataset(name="__value__"))
-    elif isinstance(value, xr.Variable):
-        digest.update(repr(value.dims).encode())
-        _hash_update(digest, np.asarray(value.values))
-        _hash_update(digest, dict(value.attrs))
-    elif isinstance(value, np.ndarray):
-        array = np.ascontiguousarray(value)
-        digest.update(f"{array.dtype.str}{array.shape}".encode())
-        digest.update(array.tobytes() if array.dtype != object else repr(array.tolist())
-                      .encode())
-    elif isinstance(value, Mapping):
-        digest.update(b"{")
-        for key in sorted(value, key=str):
-            digest.update(str(key).encode())
-            _hash_update(digest, value[key])
-        digest.update(b"}")
-    elif isinstance(value, list | tuple):
-        digest.update(b"[")
-        for item in value:
-            _hash_update(digest, item)
-        digest.update(b"]")
-    else:
-        digest.update(repr(value).encode())
-
-
 def input_hash(atmosphere: xr.Dataset, solve_kwargs: Mapping[str, Any]) -> str:
-    """SHA-256 of everything that determines a run's result (inputs, options, version)."""
-    digest = hashlib.sha256()
-    _hash_update(digest, atmosphere)
-    _hash_update(digest, dict(solve_kwargs))
-    _hash_update(digest, _version())
-    return digest.hexdigest()
+    """SHA-256 of everything that determines a run's result (inputs, options, version).
+
+    Lazy (dask-backed) inputs are hashed slice by slice, never whole in memory; the hash does
+    not depend on how the inputs are chunked.
+    """
+    from lamina import _chunked
+
+    return _chunked.input_hash(atmosphere, solve_kwargs)
 
 
-def parts_folder(path: str | os.PathLike[str]) -> Path:
-    """The folder that holds the finished chunks of a chunked run writing ``path``."""
-    target = Path(path).expanduser().absolute()
-    return target.with_name(target.name + ".parts")
+def store_path(path: str | os.PathLike[str]) -> Path:
+    """The Zarr store that holds the chunks of a run writing ``path``.
 
+    ``<path>.zarr`` beside a netCDF output (removed once the output is written), or ``path``
+    itself when it ends in ``.zarr``.
+    """
+    from lamina import _chunked
 
-def _spectral_dim(atmosphere: xr.Dataset, dim: str | None) -> str | None:
-    if dim is not None:
-        if dim not in atmosphere.dims:
-            dims = ", ".join(map(str, atmosphere.dims))
-            raise ValueError(f"dim must be a dim of the atmosphere ({dims}); got {dim!r}")
-        return dim
-    return next((name for name in SPECTRAL_DIMS if name in atmosphere.dims), None)
-
-
-def _write_json(data: Mapping[str, Any], path: Path) -> None:
-    descriptor, temporary_name = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.",
-                                                  suffix=".tmp")
-    try:
-        with os.fdopen(descriptor, "w", encoding="utf-8") as handle:
-            json.dump(data, handle, indent=2, sort_keys=True)
-            handle.write("\n")
-            handle.flush()
-            os.fsync(handle.fileno())
-        os.replace(temporary_name, path)
-    except BaseException:
-        with contextlib.suppress(FileNotFoundError):
-            os.unlink(temporary_name)
-        raise
-
-
-def _open_manifest(folder: Path, manifest: dict[str, Any], resume: bool) -> None:
-    """Start a new parts folder, or check that the one on disk belongs to this run."""
-    file = folder / _MANIFEST
-    if folder.exists() and not resume:
-        raise ValueError(f"{folder} holds an unfinished earlier run; pass resume=True "
-                         "(lamina run --resume) to continue it, or delete the folder to "
-                         "start again")
-    if not folder.exists():
-        folder.mkdir()
-        _write_json(manifest, file)
-        return
-    try:
-        found = json.loads(file.read_text(encoding="utf-8"))
-    except (OSError, ValueError) as error:
-        raise ValueError(f"cannot resume: {file} is missing or unreadable ({error}); delete "
-                         f"{folder} to start again") from None
-    if found.get("format") != _MANIFEST_FORMAT:
-        raise ValueError(f"cannot resume: {file} is not a lamina manifest")
-    for key, what in (("input_hash", "the inputs (atmosphere, solver options or lamina "
-                                     "version) differ from those of the interrupted run"),
-                      ("dim", "the spectral dim differs"),
-                      ("chunk_size", "the chunk size differs"),
-                      ("size", "the length of the spectral dim differs")):
-        if found.get(key) != manifest[key]:
-            raise ValueError(f"refusing to resume {folder}: {what} ({key} {found.get(key)!r} "
-                             f"on disk, {manifest[key]!r} now); rerun with the same inputs or "
-                             "delete the folder to start again")
-
-
-def _slice_kwargs(kwargs: Mapping[str, Any], dim: str, where: slice) -> dict[str, Any]:
-    """Cut the solve options that vary along the spectral dim to one chunk."""
-    return {key: (value.isel({dim: where}) if isinstance(value, xr.DataArray)
-                  and dim in value.dims else value) for key, value in kwargs.items()}
-
-
-def _with_input_coordinate_attributes(result: xr.Dataset, atmosphere: xr.Dataset) -> xr.Dataset:
-    """Give coordinates that came from the input (e.g. wavelength) the input's units back."""
-    missing = {name: atmosphere[name].attrs for name in result.coords
-               if name in atmosphere.coords and atmosphere[name].attrs
-               and not result[name].attrs}
-    if not missing:
-        return result
-    result = result.copy(deep=False)
-    for name, attrs in missing.items():
-        result[name].attrs = dict(attrs)
-    return result
-
-
-def _select(result: xr.Dataset, variables: Sequence[str]) -> xr.Dataset:
-    missing = [name for name in variables if name not in result.data_vars]
-    if missing:
-        raise ValueError(f"variables: the solver produced no {missing[0]!r} for this run (it "
-                         f"produced {', '.join(map(str, result.data_vars))})")
-    return result[list(variables)]
+    return _chunked.store_path(path)
 
 
 def run_chunked(
@@ -380,23 +292,38 @@ def run_chunked(
     variables: Sequence[str] | None = None,
     attributes: Mapping[str, Any] | None = None,
     solver: Callable[..., xr.Dataset] | None = None,
+    scheduler: Any = None,
+    retries: int = 2,
+    lock_timeout: float = 0.0,
+    inputs_hash: str | None = None,
 ) -> xr.Dataset:
-    """Solve a spectral run chunk by chunk, keeping finished chunks, and write one netCDF file.
+    """Solve a spectral run chunk by chunk into a Zarr store, resumably, and write the output.
+
+    Each chunk is solved on its own and written into its region of the store
+    (:func:`store_path`), followed by its completion mark; the run's manifest (input hash,
+    chunk size, dim, variables) is in the store's attributes. After a crash or a kill,
+    ``resume=True`` computes only the chunks without a mark. A netCDF output is written from
+    the store chunk by chunk, atomically (:func:`write_netcdf`), and the store removed; an
+    output ending in ``.zarr`` is the store itself. Memory is bounded by the chunk size.
 
     Parameters
     ----------
     atmosphere : xarray.Dataset
-        Input of :func:`lamina.solve`.
+        Input of :func:`lamina.solve`, in memory or lazy (dask-backed: each chunk's inputs
+        are computed only when the chunk is solved).
     solve_kwargs : mapping
         Keyword arguments of :func:`lamina.solve`; DataArrays along the spectral dim (e.g. a
         spectral surface albedo) are cut with the atmosphere.
     path : str or path-like
-        The final netCDF file. Finished chunks live in ``<path>.parts/`` until the end.
+        The output: a netCDF file, or a Zarr store when it ends in ``.zarr``.
     chunk_size : int, optional
-        Spectral points per chunk (default: all in one chunk).
+        Spectral points per chunk. Default: the chunk size of the unfinished run on disk, if
+        any, else all points in one chunk. A different chunk size than the stored run's starts
+        the run afresh.
     resume : bool
-        Continue an interrupted run: chunks found in ``<path>.parts/`` are not computed again.
-        A resume whose inputs differ from the interrupted run's is refused.
+        Continue an unfinished run of the same inputs: chunks already marked done are not
+        computed again. Without it such a run is refused (nothing finished is thrown away). A
+        store of other inputs is replaced, with a note on standard error, either way.
     progress : bool or None
         Draw a progress bar on standard error: True (default) when it is a terminal, None
         likewise, False never.
@@ -406,90 +333,36 @@ def run_chunked(
     variables : sequence of str, optional
         Output variables to keep (default: all).
     attributes : mapping, optional
-        Extra global attributes for the output file (e.g. the scenario's title).
+        Extra global attributes for the output (e.g. the scenario's title).
     solver : callable, optional
         Replacement for :func:`lamina.solve` with the same signature (default: lamina.solve).
+    scheduler : str or distributed.Client, optional
+        Run the chunks on a ``dask.distributed`` cluster: the scheduler's address or a
+        client. The store must be on a file system the workers share.
+    retries : int
+        Times a chunk's task is retried on a cluster after it failed (default 2); a chunk
+        whose worker is lost is recomputed elsewhere by the scheduler.
+    lock_timeout : float
+        Seconds to wait for another run on the same output to finish (default 0: refuse).
+    inputs_hash : str, optional
+        A hash that stands for the inputs (e.g. of a scenario file and the files it reads),
+        instead of hashing ``atmosphere`` and ``solve_kwargs``.
 
     Returns
     -------
     xarray.Dataset
-        The whole result, as written to ``path``.
+        The written output, opened lazily.
 
     Raises
     ------
     ValueError
-        When ``path`` is not writable (checked before computing), when a parts folder from an
-        earlier run exists and ``resume`` is False, or when resuming with different inputs.
+        When ``path`` is not writable (checked before computing), when an unfinished run of
+        the same inputs is on disk and ``resume`` is False, when another run holds the
+        output's lock (:class:`lamina._chunked.RunInProgressError`), or for a bad argument.
     """
-    target = check_writable(path)
-    if chunk_size is not None and (isinstance(chunk_size, bool)
-                                   or not isinstance(chunk_size, int | np.integer)
-                                   or chunk_size < 1):
-        raise ValueError(f"chunk_size must be a positive integer; got {chunk_size!r}")
-    if solver is None:
-        import lamina
+    from lamina import _chunked
 
-        solver = lamina.solve
-    spectral = _spectral_dim(atmosphere, dim)
-    size = atmosphere.sizes[spectral] if spectral is not None else 1
-    step = size if chunk_size is None else min(int(chunk_size), size)
-    starts = list(range(0, size, step))
-    folder = parts_folder(target)
-    manifest = {
-        "format": _MANIFEST_FORMAT,
-        "input_hash": input_hash(atmosphere, {**solve_kwargs, "__variables__": variables}),
-        "dim": spectral,
-        "size": size,
-        "chunk_size": step,
-        "chunks": len(starts),
-        "output": target.name,
-        "lamina_version": _version(),
-        "created": _datetime.datetime.now(_datetime.UTC).isoformat(timespec="seconds"),
-    }
-    _open_manifest(folder, manifest, resume)
-    if resume:
-        # temporaries of a final write that was killed outright (SIGKILL, power cut)
-        for stale in target.parent.glob(f".{target.name}.*.tmp"):
-            stale.unlink(missing_ok=True)
-    files = [folder / f"part-{number:05d}.nc" for number in range(len(starts))]
-    todo = [number for number, file in enumerate(files) if not file.is_file()]
-    with ProgressBar(len(files), f"lamina: {spectral or 'run'} chunks",
-                     enabled=None if progress else False) as bar:
-        bar.advance(len(files) - len(todo))
-        for number in todo:
-            where = slice(starts[number], starts[number] + step)
-            if spectral is None:
-                chunk, kwargs = atmosphere, dict(solve_kwargs)
-            else:
-                chunk = atmosphere.isel({spectral: where})
-                kwargs = _slice_kwargs(solve_kwargs, spectral, where)
-            result = _with_input_coordinate_attributes(solver(chunk, **kwargs), chunk)
-            if variables is not None:
-                result = _select(result, variables)
-            write_netcdf(result, files[number])
-            bar.advance()
-    parts = []
-    for file in files:
-        with xr.open_dataset(file) as part:
-            parts.append(part.load())
-    if spectral is None or len(parts) == 1:
-        combined = parts[0]
-    else:
-        combined = xr.concat(parts, dim=spectral, data_vars="minimal", coords="minimal",
-                             compat="equals", join="exact", combine_attrs="override")
-    combined.attrs.pop("date_created", None)  # write_netcdf stamps the final file
-    # The parts' own "written by lamina" lines record temporary files: the final write adds
-    # the one line that matters, so that the history holds one entry per action.
-    combined.attrs["history"] = "\n".join(
-        line for line in str(combined.attrs.get("history", "")).splitlines()
-        if _WRITTEN_BY not in line)
-    write_netcdf(combined, target, settings=attributes)
-    # Only now is it safe to forget the parts: the whole result is on disk. Rename first (an
-    # atomic step) so that a kill during the removal leaves no half parts folder to trip over.
-    finished = folder.with_name(folder.name + ".finished")
-    if finished.exists():
-        shutil.rmtree(finished)
-    folder.rename(finished)
-    shutil.rmtree(finished)
-    with xr.open_dataset(target) as written:
-        return written.load()
+    return _chunked.run_resumable(
+        atmosphere, solve_kwargs, path, chunk_size, resume, progress, dim=dim,
+        variables=variables, attributes=attributes, solver=solver, scheduler=scheduler,
+        retries=retries, lock_timeout=lock_timeout, inputs_hash=inputs_hash)

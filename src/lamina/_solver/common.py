@@ -268,6 +268,19 @@ def option_array(value: object, name: str, extra: dict[str, int] | None = None) 
                         dims=[dim for axis, dim in enumerate(dims) if axis not in squeezed])
 
 
+def check_option_coordinates(array: xr.DataArray, name: str, atmosphere: xr.Dataset) -> None:
+    """An option DataArray has no layer/level/moment dim and the atmosphere's coordinates."""
+    wrong = [dim for dim in array.dims if dim in ("layer", "level", "moment", "element")]
+    if wrong:
+        raise ValueError(f"{name} must not have the atmosphere's {wrong[0]!r} dim (one value "
+                         "per column: a scalar or an array along the atmosphere's extra dims)")
+    for dim in array.dims:
+        if (dim in array.indexes and dim in atmosphere.indexes
+                and not array.indexes[dim].equals(atmosphere.indexes[dim])):
+            raise ValueError(f"{name} has other {dim!r} coordinates than the atmosphere; give "
+                             f"it the atmosphere's {dim} values")
+
+
 def check_option_values(array: xr.DataArray, name: str, **bounds: Any) -> None:
     """Range check of an option's values held in memory (lazy ones: in each block)."""
     if array.chunks is None:

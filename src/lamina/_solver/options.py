@@ -20,6 +20,7 @@ from lamina._solver.common import (
     Options,
     Positions,
     Views,
+    check_option_coordinates,
     check_option_values,
     extra_dims,
     option_array,
@@ -79,10 +80,12 @@ def check_options(
     extra = extra_dims(atmosphere)
     irradiance = option_array(_default(sun_irradiance, 1.0 if beam else 0.0),
                               "sun_irradiance", extra)
+    check_option_coordinates(irradiance, "sun_irradiance", atmosphere)
     check_option_values(irradiance, "sun_irradiance", low=0.0)
     if SUN_DIM not in irradiance.dims:
         irradiance = irradiance.expand_dims({SUN_DIM: zenith.sizes[SUN_DIM]})
     albedo = option_array(_default(surface_albedo, 0.0), "surface_albedo", extra)
+    check_option_coordinates(albedo, "surface_albedo", atmosphere)
     check_option_values(albedo, "surface_albedo", low=0.0, high=1.0)
     top = option_array(top_diffuse_radiance, "top_diffuse_radiance", extra)
     check_option_values(top, "top_diffuse_radiance", low=0.0)

@@ -8,7 +8,7 @@ mixes its constituents (or reads its netCDF profile) into the input Dataset and
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -96,8 +96,15 @@ class Scenario:
                            attrs={"units": "um", "long_name": "wavelength",
                                   "standard_name": "radiation_wavelength"})
 
-    def build_atmosphere(self) -> xr.Dataset:
+    def build_atmosphere(self, chunk_size: int | None = None) -> xr.Dataset:
         """Build the input Dataset with :func:`lamina.make_atmosphere`.
+
+        Parameters
+        ----------
+        chunk_size : int, optional
+            Build a spectral atmosphere lazily, as dask arrays of this many wavelengths per
+            chunk, each made only when it is computed (memory bounded by the chunk, not the
+            spectrum). Default: in memory. A profile file is always read into memory.
 
         Returns
         -------
@@ -107,6 +114,8 @@ class Scenario:
         """
         import lamina
 
+        if chunk_size is not None and self.spectral and self.profile is None:
+            return _lazy_atmosphere(self, int(chunk_size))
         if self.profile is not None:
             return _read_profile(self)
         tau, ssa, moments = _mix(self)
@@ -191,6 +200,40 @@ class Scenario:
             attrs["comment"] = self.description
         return attrs
 
+
+
+def _arrays(scenario: Scenario) -> dict[str, np.ndarray]:
+    atmosphere = scenario.build_atmosphere()
+    return {str(name): variable.values for name, variable in atmosphere.data_vars.items()}
+
+
+def _lazy_atmosphere(scenario: Scenario, step: int) -> xr.Dataset:
+    """The spectral atmosphere as dask arrays, one block of ``step`` wavelengths each."""
+    import dask
+    import dask.array
+
+    wavelength = np.asarray(scenario.wavelength, dtype=float)
+    first = replace(scenario, wavelength=wavelength[:1]).build_atmosphere()
+    parts = [replace(scenario, wavelength=wavelength[start:start + step])
+             for start in range(0, wavelength.size, step)]
+    pieces = [dask.delayed(_arrays, pure=True)(part) for part in parts]
+    variables = {}
+    for name, variable in first.data_vars.items():
+        if "wavelength" not in variable.dims:
+            variables[name] = variable.variable
+            continue
+        axis = variable.dims.index("wavelength")
+        blocks = []
+        for part, piece in zip(parts, pieces, strict=True):
+            shape = list(variable.shape)
+            shape[axis] = part.wavelength.size
+            blocks.append(dask.array.from_delayed(piece[name], tuple(shape), variable.dtype))
+        variables[name] = xr.Variable(variable.dims, dask.array.concatenate(blocks, axis=axis),
+                                      variable.attrs)
+    coords = {name: coordinate.variable for name, coordinate in first.coords.items()
+              if name != "wavelength"}
+    coords["wavelength"] = scenario._wavelength_coord()
+    return xr.Dataset(variables, coords, first.attrs)
 
 
 def _mix(scenario: Scenario) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
