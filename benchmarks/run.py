@@ -303,22 +303,9 @@ def yes(condition: bool) -> str:
     return "yes" if condition else "NO"
 
 
-def main() -> None:
-    parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
-    parser.add_argument("--quick", action="store_true", help="fewer repeats and sizes")
-    parser.add_argument("--repeats", type=int, default=None, help="repeats of each timing")
-    parser.add_argument("--floor-columns", type=int, default=None,
-                        help="columns sampled for the LAPACK floor")
-    args = parser.parse_args()
-    quick = args.quick
-    columns, layers, streams = 200, 60, 16
-    repeats = args.repeats or (2 if quick else 7)
-    few = max(2, repeats // 2)
-    floor_columns = args.floor_columns or (5 if quick else 40)
-    load_before = os.getloadavg()[0]
-
-    progress("building inputs and the floor matrices")
-    atmosphere = random_atmosphere(columns, layers)
+def measure_floor(atmosphere, streams: int, repeats: int, floor_columns: int) -> dict:
+    """Flux and radiance runs against the LAPACK floor of the same columns and terms."""
+    columns = atmosphere.sizes["wavelength"]
     flux_run = solver(atmosphere)
     radiance_run = solver(atmosphere, radiance=True)
     terms = np.asarray(radiance_run().fourier_terms.values)
@@ -348,95 +335,112 @@ def main() -> None:
     # the floor of the sampled columns per term, times the mean number of terms of all
     radiance_floor_times = ((times["radiance_floor"] - times["radiance_overhead"])
                             / terms[sample].sum() * terms.mean())
-    flux_time = times["flux"].min() / columns
-    radiance_time = times["radiance"].min() / columns
-    flux_floor_time = flux_floor_times.min()
-    radiance_floor_time = radiance_floor_times.min()
-    flux_raw = times["flux_floor"].min() / sample.size
-    # each round's solver time over the same round's floor
-    flux_ratio, flux_low, flux_high = paired(times["flux"] / columns / flux_floor_times)
-    radiance_ratio, radiance_low, radiance_high = paired(
-        times["radiance"] / columns / radiance_floor_times)
+    return {
+        "terms": terms,
+        "flux_time": times["flux"].min() / columns,
+        "radiance_time": times["radiance"].min() / columns,
+        "flux_kernel": kernel_share["flux"] / columns,
+        "radiance_kernel": kernel_share["radiance"] / columns,
+        "flux_floor_time": flux_floor_times.min(),
+        "radiance_floor_time": radiance_floor_times.min(),
+        "flux_raw": times["flux_floor"].min() / sample.size,
+        # each round's solver time over the same round's floor
+        "flux_ratio": paired(times["flux"] / columns / flux_floor_times),
+        "radiance_ratio": paired(times["radiance"] / columns / radiance_floor_times),
+    }
 
-    progress("growth with layers and streams")
+
+LAYER_SIZES = [10, 20, 50, 100, 200]
+STREAM_SIZES = [4, 8, 16, 32, 64]
+
+
+def measure_growth(columns: int, layers: int, repeats: int, few: int, quick: bool) -> dict:
+    """Cost per column against the number of layers and of streams (fitted exponents)."""
     # all 200 columns for the fluxes, so that the per-call cost of the Python front end
     # (about 10 ms) does not flatten the fit; fewer for the slower radiances and streams
     grow_columns = 20 if quick else 40
-    layer_sizes = [10, 20, 50, 100, 200]
-    stream_sizes = [4, 8, 16, 32, 64]
     # in rounds, each round timing every size once: the exponent is the median of the
     # rounds' own fits (a drift of the machine's speed between rounds does not bend them)
-    grown = {size: random_atmosphere(columns, size, seed=size) for size in layer_sizes}
-    flux_calls = {size: solver(grown[size]) for size in layer_sizes}
+    grown = {size: random_atmosphere(columns, size, seed=size) for size in LAYER_SIZES}
+    flux_calls = {size: solver(grown[size]) for size in LAYER_SIZES}
     radiance_calls = {
         size: solver(grown[size].isel(wavelength=slice(0, grow_columns)), radiance=True)
-        for size in layer_sizes}
+        for size in LAYER_SIZES}
     stream_atmosphere = random_atmosphere(grow_columns, layers, seed=7)
-    stream_calls = {size: solver(stream_atmosphere, streams=size) for size in stream_sizes}
+    stream_calls = {size: solver(stream_atmosphere, streams=size) for size in STREAM_SIZES}
     layer_times = interleaved(
-        {("flux", size): wall(flux_calls[size]) for size in layer_sizes}
-        | {("radiance", size): wall(radiance_calls[size]) for size in layer_sizes}, repeats)
-    stream_times = interleaved({size: wall(stream_calls[size]) for size in stream_sizes}, few)
+        {("flux", size): wall(flux_calls[size]) for size in LAYER_SIZES}
+        | {("radiance", size): wall(radiance_calls[size]) for size in LAYER_SIZES}, repeats)
+    stream_times = interleaved({size: wall(stream_calls[size]) for size in STREAM_SIZES}, few)
 
     def growth(times, sizes, per):
         table = np.array([times[size] for size in sizes]) / per      # (size, round)
         exponent = np.median([fit_exponent(sizes, table[:, r]) for r in range(table.shape[1])])
         return list(table.min(axis=1)), float(exponent)
 
-    layer_flux, layer_flux_p = growth(
-        {size: layer_times["flux", size] for size in layer_sizes}, layer_sizes, columns)
-    layer_radiance, layer_radiance_p = growth(
-        {size: layer_times["radiance", size] for size in layer_sizes}, layer_sizes,
-        grow_columns)
-    stream_flux, stream_flux_p = growth(stream_times, stream_sizes, grow_columns)
+    return {
+        "layer_flux": growth({size: layer_times["flux", size] for size in LAYER_SIZES},
+                             LAYER_SIZES, columns),
+        "layer_radiance": growth({size: layer_times["radiance", size] for size in LAYER_SIZES},
+                                 LAYER_SIZES, grow_columns),
+        "stream_flux": growth(stream_times, STREAM_SIZES, grow_columns),
+    }
 
-    progress("dask threads")
+
+def _threaded(atmosphere, workers: int, radiance: bool) -> Callable[[], float]:
+    run = solver(atmosphere, radiance=radiance)
+
+    def go():
+        with dask.config.set(scheduler="threads", num_workers=workers):
+            start = time.perf_counter()
+            run().compute()
+            return time.perf_counter() - start
+    return go
+
+
+def _processes(parallel: bool) -> Callable[[], float]:
+    """Two busy Python processes side by side, or one after the other."""
+    busy = [sys.executable, "-c", "s = 0\nfor i in range(5_000_000): s += i"]
+
+    def go():
+        start = time.perf_counter()
+        if parallel:
+            running = [subprocess.Popen(busy) for _ in range(2)]
+            for process in running:
+                process.wait()
+        else:
+            for _ in range(2):
+                subprocess.run(busy, check=True)
+        return time.perf_counter() - start
+    return go
+
+
+THREAD_KINDS = ("fluxes", "fluxes, 2000 columns", "radiances")
+
+
+def measure_threads(atmosphere, layers: int, rounds: int) -> dict:
+    """Two dask threads against one, beside what two processes give the machine now."""
+    columns = atmosphere.sizes["wavelength"]
     # 8 chunks of the benchmark's 200 columns, and a ten times longer spectral run of fluxes
     # (10 chunks of 200): a dask call has a fixed cost (building, optimising and ordering the
     # graph, about 30 to 60 ms here) that a 0.2 s flux run cannot hide
     chunked = atmosphere.chunk({"wavelength": columns // 8})
     long_run = random_atmosphere(10 * columns, layers, seed=11).chunk({"wavelength": columns})
-
-    def threaded(workers, radiance, atmosphere=chunked):
-        run = solver(atmosphere, radiance=radiance)
-
-        def go():
-            with dask.config.set(scheduler="threads", num_workers=workers):
-                start = time.perf_counter()
-                run().compute()
-                return time.perf_counter() - start
-        return go
-
-    # what two cores give this machine right now: two busy Python processes side by side
-    # against one after the other (other users' load shows up here too)
-    busy = [sys.executable, "-c", "s = 0\nfor i in range(5_000_000): s += i"]
-
-    def processes(parallel):
-        def go():
-            start = time.perf_counter()
-            if parallel:
-                running = [subprocess.Popen(busy) for _ in range(2)]
-                for process in running:
-                    process.wait()
-            else:
-                for _ in range(2):
-                    subprocess.run(busy, check=True)
-            return time.perf_counter() - start
-        return go
-
     speedup = {}
-    thread_rounds = max(few, 5)
-    for kind, radiance, run_atmosphere in (("fluxes", False, chunked),
-                                           ("fluxes, 2000 columns", False, long_run),
-                                           ("radiances", True, chunked)):
-        got = interleaved({"one": threaded(1, radiance, run_atmosphere),
-                           "two": threaded(2, radiance, run_atmosphere),
-                           "serial": processes(False), "parallel": processes(True)},
-                          thread_rounds)
+    for kind, radiance, run_atmosphere in zip(THREAD_KINDS, (False, False, True),
+                                              (chunked, long_run, chunked), strict=True):
+        # what two cores give this machine right now (other users' load shows up here too)
+        got = interleaved({"one": _threaded(run_atmosphere, 1, radiance),
+                           "two": _threaded(run_atmosphere, 2, radiance),
+                           "serial": _processes(False), "parallel": _processes(True)},
+                          rounds)
         speedup[kind] = paired(got["one"] / got["two"])
         speedup[kind, "machine"] = paired(got["serial"] / got["parallel"])
+    return speedup
 
-    progress("sun angles")
+
+def measure_suns(atmosphere, few: int) -> dict:
+    """Four sun angles against one, fluxes (False) and radiances (True)."""
     suns = {}
     for kind in (False, True):
         got = interleaved({
@@ -444,43 +448,77 @@ def main() -> None:
             "four": wall(solver(atmosphere, radiance=kind, sun_zenith=FOUR_SUNS)),
         }, few)
         suns[kind] = paired(got["four"] / got["one"])
+    return suns
 
+
+def report_rows(floor: dict, grown: dict, speedup: dict, suns: dict) -> list[tuple]:
+    """The table's rows: quantity, measured, target, met."""
+    flux_ratio, flux_low, flux_high = floor["flux_ratio"]
+    radiance_ratio, radiance_low, radiance_high = floor["radiance_ratio"]
+    layer_flux_p = grown["layer_flux"][1]
+    layer_radiance_p = grown["layer_radiance"][1]
     rows = [
-        ("fluxes: time per column", f"{flux_time * 1e3:.3f} ms", "", ""),
-        ("  of which in the kernel", f"{kernel_share['flux'] / columns * 1e3:.3f} ms", "", ""),
-        ("  LAPACK floor per column", f"{flux_floor_time * 1e3:.3f} ms", "",
-         f"(with Python call overhead {flux_raw * 1e3:.3f} ms)"),
+        ("fluxes: time per column", f"{floor['flux_time'] * 1e3:.3f} ms", "", ""),
+        ("  of which in the kernel", f"{floor['flux_kernel'] * 1e3:.3f} ms", "", ""),
+        ("  LAPACK floor per column", f"{floor['flux_floor_time'] * 1e3:.3f} ms", "",
+         f"(with Python call overhead {floor['flux_raw'] * 1e3:.3f} ms)"),
         ("  fluxes / floor", f"{flux_ratio:.2f}", "<= 1.5",
          f"{yes(flux_ratio <= 1.5)} {spread(flux_low, flux_high)}"),
-        ("radiances: time per column", f"{radiance_time * 1e3:.2f} ms", "",
-         f"({len(VIEW_ZENITH)} x {len(VIEW_AZIMUTH)} views, {terms.mean():.2f} Fourier "
-         "terms on average)"),
-        ("  of which in the kernel", f"{kernel_share['radiance'] / columns * 1e3:.2f} ms", "",
-         ""),
-        ("  LAPACK floor of the terms used", f"{radiance_floor_time * 1e3:.2f} ms", "", ""),
+        ("radiances: time per column", f"{floor['radiance_time'] * 1e3:.2f} ms", "",
+         f"({len(VIEW_ZENITH)} x {len(VIEW_AZIMUTH)} views, {floor['terms'].mean():.2f} "
+         "Fourier terms on average)"),
+        ("  of which in the kernel", f"{floor['radiance_kernel'] * 1e3:.2f} ms", "", ""),
+        ("  LAPACK floor of the terms used", f"{floor['radiance_floor_time'] * 1e3:.2f} ms",
+         "", ""),
         ("  radiances / floor", f"{radiance_ratio:.2f}", "<= 1.5",
          f"{yes(radiance_ratio <= 1.5)} {spread(radiance_low, radiance_high)}"),
         ("cost ~ layers^p, fluxes", f"p = {layer_flux_p:.2f}", "1 +- 0.1",
          yes(abs(layer_flux_p - 1) <= 0.1)),
         ("cost ~ layers^p, radiances", f"p = {layer_radiance_p:.2f}", "1 +- 0.1",
          yes(abs(layer_radiance_p - 1) <= 0.1)),
-        ("cost ~ streams^p, fluxes", f"p = {stream_flux_p:.2f}", "", "(report only)"),
+        ("cost ~ streams^p, fluxes", f"p = {grown['stream_flux'][1]:.2f}", "",
+         "(report only)"),
     ]
-    for kind in ("fluxes", "fluxes, 2000 columns", "radiances"):
+    for kind in THREAD_KINDS:
         rows.append((f"2 dask threads / 1, {kind}", f"{speedup[kind][0]:.2f}x", ">= 1.8",
                      f"{yes(speedup[kind][0] >= 1.8)} {spread(*speedup[kind][1:])}, machine "
                      f"{speedup[kind, 'machine'][0]:.2f}x"))
-    rows += [
-        ("4 sun angles / 1, fluxes", f"{suns[False][0]:.2f}", "< 1.3",
-         f"{yes(suns[False][0] < 1.3)} {spread(*suns[False][1:])}"),
-        ("4 sun angles / 1, radiances", f"{suns[True][0]:.2f}", "< 1.3",
-         f"{yes(suns[True][0] < 1.3)} {spread(*suns[True][1:])}"),
-    ]
+    for kind, label in ((False, "fluxes"), (True, "radiances")):
+        rows.append((f"4 sun angles / 1, {label}", f"{suns[kind][0]:.2f}", "< 1.3",
+                     f"{yes(suns[kind][0] < 1.3)} {spread(*suns[kind][1:])}"))
+    return rows
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    parser.add_argument("--quick", action="store_true", help="fewer repeats and sizes")
+    parser.add_argument("--repeats", type=int, default=None, help="repeats of each timing")
+    parser.add_argument("--floor-columns", type=int, default=None,
+                        help="columns sampled for the LAPACK floor")
+    args = parser.parse_args()
+    quick = args.quick
+    columns, layers, streams = 200, 60, 16
+    repeats = args.repeats or (2 if quick else 7)
+    few = max(2, repeats // 2)
+    thread_rounds = max(few, 5)
+    load_before = os.getloadavg()[0]
+
+    progress("building inputs and the floor matrices")
+    atmosphere = random_atmosphere(columns, layers)
+    floor = measure_floor(atmosphere, streams, repeats,
+                          args.floor_columns or (5 if quick else 40))
+    progress("growth with layers and streams")
+    grown = measure_growth(columns, layers, repeats, few, quick)
+    progress("dask threads")
+    speedup = measure_threads(atmosphere, layers, thread_rounds)
+    progress("sun angles")
+    suns = measure_suns(atmosphere, few)
+
+    rows = report_rows(floor, grown, speedup, suns)
     print(f"lamina {lamina.__version__}: {streams} streams, {layers} Henyey-Greenstein "
           f"layers, {columns} columns (wavelengths) per call, sun at {SUN_ZENITH:g} deg; "
           f"{repeats} rounds (streams, suns: {few}; threads: {thread_rounds}); times are the "
-          "best round, "
-          "ratios the median of the rounds' own ratios")
+          "best round, ratios the median of the rounds' own ratios")
     print(f"python {platform.python_version()}, numpy {np.__version__}, scipy "
           f"{scipy.__version__}, dask {dask.__version__}; {os.cpu_count()} cpus, load average "
           f"{load_before:.1f} before and {os.getloadavg()[0]:.1f} after")
@@ -489,11 +527,11 @@ def main() -> None:
     for name, value, target, met in rows:
         print(f"{name:<{width}}{value:>12}  {target:>8}  {met}")
     print("growth (ms per column):")
-    print("  layers          " + "".join(f"{s:>9d}" for s in layer_sizes))
-    print("  fluxes          " + "".join(f"{t * 1e3:9.3f}" for t in layer_flux))
-    print("  radiances       " + "".join(f"{t * 1e3:9.2f}" for t in layer_radiance))
-    print("  streams         " + "".join(f"{s:>9d}" for s in stream_sizes))
-    print("  fluxes (60 lay.)" + "".join(f"{t * 1e3:9.3f}" for t in stream_flux))
+    print("  layers          " + "".join(f"{s:>9d}" for s in LAYER_SIZES))
+    print("  fluxes          " + "".join(f"{t * 1e3:9.3f}" for t in grown["layer_flux"][0]))
+    print("  radiances       " + "".join(f"{t * 1e3:9.2f}" for t in grown["layer_radiance"][0]))
+    print("  streams         " + "".join(f"{s:>9d}" for s in STREAM_SIZES))
+    print("  fluxes (60 lay.)" + "".join(f"{t * 1e3:9.3f}" for t in grown["stream_flux"][0]))
 
 
 if __name__ == "__main__":

@@ -7,9 +7,10 @@ differences ``flux_net`` and ``flux_divergence``).
 
 Why not bit for bit: the store was computed with OpenBLAS's AVX-512 kernels, and OpenBLAS
 picks its kernels by CPU at run time. Measured on an AVX2 machine (AMD EPYC, OpenBLAS 0.3.30
-from scipy 1.17.1), the thermal cases agree to 4e-15 and the solar cases differ by up to
-1.1e-10 of the fluxes: LAPACK's round-off in the eigen-solutions, amplified by the
-boundary-value problem. A reorganisation mistake moves outputs by far more than 1e-9.
+from scipy 1.17.1), the thermal cases agree to 4e-15 and the cases with conservative layers
+differ by up to 1.1e-10 of the fluxes: LAPACK's round-off, amplified by the eigen-solutions
+of layers whose albedo is capped at 1 - 1e-12 (triangular factors conditioned about 1e6;
+docs/development/numerics.md). A reorganisation mistake moves outputs by far more.
 """
 
 from __future__ import annotations
