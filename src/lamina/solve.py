@@ -199,16 +199,18 @@ def _solve_block(
     planck_levels: np.ndarray,
     planck_surface: np.ndarray,
     top_radiance: np.ndarray,
-    *surface: np.ndarray,
+    *more: np.ndarray,
     settings: BlockSettings,
 ) -> tuple[np.ndarray, ...]:
     """Solve one block of columns (numpy in, numpy out); leading axes are columns.
 
-    ``surface``: the arrays of a bidirectional surface (``_solver.surface_terms``), if any.
+    ``more``: the arrays of a bidirectional surface (``_solver.surface_terms``), if any,
+    then per-pixel view zenith and azimuth, if given so.
     """
+    surface, views = (more[:-2], more[-2:]) if settings.views.per_pixel else (more, ())
     block = prepare_block(tau, albedo, moments, sun_zenith, irradiance, surface_albedo,
                           planck_levels, planck_surface, top_radiance, settings,
-                          surface=surface)
+                          surface=surface, views=views)
     warn_about_phase_functions(block, settings)
     layers = scale_layers(block.optical_depth, block.single_scattering_albedo,
                           block.phase_moments, settings.streams, settings.delta_m)

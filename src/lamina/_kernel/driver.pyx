@@ -386,6 +386,8 @@ def solve_columns(
     const double[:, :, :, ::1] surface_view_beam=None,
     const double[:, ::1] surface_emissivity=None,
     const double[:, ::1] surface_view_emissivity=None,
+    const double[:, ::1] column_view_cosines=None,
+    const double[:, ::1] column_view_azimuths=None,
 ):
     """Solve many columns (see the module docstring for the method).
 
@@ -405,6 +407,11 @@ def solve_columns(
     f_m(mu_u, mu_j); surface_view_beam (column, sun, vz, va) the exact f(mu_u, mu0, phi);
     surface_emissivity (column, n) and surface_view_emissivity (column, vz), 1 - the
     directional albedo. ``surface_albedo`` is then ignored.
+
+    Views of each column's own (both keywords, or none for the views shared by every
+    column): column_view_cosines (column, vz) and column_view_azimuths (column, va) replace
+    ``view_cosines`` and ``view_azimuths`` (whose lengths still give vz and va) in each
+    column; the radiance of column c is at its own row's angles.
     """
     cdef Sizes sz
     cdef Scratch sc
@@ -415,7 +422,7 @@ def solve_columns(
     cdef Py_ssize_t ncol = optical_depth.shape[0]
     cdef Py_ssize_t n = quadrature_cosines.shape[0]
     cdef Py_ssize_t col, i, nmodes
-    cdef bint want_radiance, bidirectional
+    cdef bint want_radiance, bidirectional, own_views
 
     sz.n = n
     sz.nl = 2 * n
@@ -460,6 +467,8 @@ def solve_columns(
         (surface_fourier, surface_beam_fourier, surface_view_fourier, surface_view_beam,
          surface_emissivity, surface_view_emissivity))
     cl.bidirectional = bidirectional
+    own_views = _check_column_views(ncol, sz.nvz, sz.nva, column_view_cosines,
+                                    column_view_azimuths)
     cl.surface_terms = surface_fourier.shape[1] if bidirectional else 0
 
     # one pool of workspace for a column, reused by every column (kept alive here)
@@ -496,6 +505,9 @@ def solve_columns(
             out.radiance = &radiance[col, 0, 0, 0, 0, 0]
             out.fourier_terms = &fourier_terms[col]
             out.status = &status[col, 0]
+            if own_views and want_radiance:
+                gr.umu = &column_view_cosines[col, 0]
+                gr.phi = &column_view_azimuths[col, 0]
             start_column(&sz, &sc, &ly, &cl, &gr, want_radiance, &out)
             if bidirectional and want_radiance:
                 surface_beam_views(&sz, &cl, &gr, out.radiance)
@@ -521,6 +533,21 @@ def _check_surface(ncol, n, nsun, nvz, nva, arrays):
     if terms < 1:
         raise ValueError("solve_columns: surface_fourier needs at least one term")
     for name, shape, want in zip(names, shapes, expected):
+        if shape != want:
+            raise ValueError(f"solve_columns: {name} has shape {shape}, expected {want}")
+    return True
+
+
+def _check_column_views(ncol, nvz, nva, cosines, azimuths):
+    """True for views of each column's own; refuse one without the other or a bad shape."""
+    if cosines is None and azimuths is None:
+        return False
+    if cosines is None or azimuths is None:
+        raise ValueError("solve_columns: give column_view_cosines and column_view_azimuths "
+                         "together or neither")
+    for name, array, want in (("column_view_cosines", cosines, (ncol, nvz)),
+                              ("column_view_azimuths", azimuths, (ncol, nva))):
+        shape = tuple(np.asarray(array).shape)
         if shape != want:
             raise ValueError(f"solve_columns: {name} has shape {shape}, expected {want}")
     return True
@@ -571,18 +598,22 @@ def single_scattering(
     const double[::1] view_cosines,
     double sign,
     double[:, :, :, :, :, ::1] radiance,
+    *,
+    const double[:, ::1] column_view_cosines=None,
 ):
     """Add ``sign`` times the singly scattered beam radiance to ``radiance``.
 
     phase_function (column, layer, sun, 2, vz, va) holds P(cos T) of each layer for each
     view direction (0 up, 1 down); radiance is (column, sun, pos, 2, vz, va). No surface
     term: the surface-reflected beam is identical in the exact and truncated problems.
+    column_view_cosines (column, vz), if given, replaces view_cosines in each column.
     """
     cdef Py_ssize_t ncol = optical_depth.shape[0], nlay = optical_depth.shape[1]
     cdef Py_ssize_t nsun = sun_cosine.shape[1], npos = position_layer.shape[0]
     cdef Py_ssize_t nvz = view_cosines.shape[0], nva = radiance.shape[5]
     cdef Py_ssize_t col, s, u, a, layer, p
     cdef double mu0, sec, inv, beam, dt1, dt2, up, down
+    cdef bint own_views = column_view_cosines is not None
     cdef double[::1] up_levels = np.zeros(nlay + 1), down_levels = np.zeros(nlay + 1)
     cdef double[::1] tops = np.zeros(nlay + 1)
     # per layer and view cosine, the same for every azimuth: transmittance along the view and
@@ -602,6 +633,9 @@ def single_scattering(
             or radiance.shape[2] != npos or radiance.shape[3] != 2 or radiance.shape[4] != nvz
             or position_fraction.shape[0] != npos or sun_cosine.shape[0] != ncol):
         raise ValueError("single_scattering: arrays disagree in shape")
+    if own_views and (column_view_cosines.shape[0] != ncol
+                      or column_view_cosines.shape[1] != nvz):
+        raise ValueError("single_scattering: column_view_cosines must be (column, vz)")
     if npos and (np.asarray(position_layer).min() < 0
                  or np.asarray(position_layer).max() >= nlay):
         raise ValueError("single_scattering: position_layer out of range")
@@ -614,7 +648,10 @@ def single_scattering(
                 mu0 = sun_cosine[col, s]
                 sec = 1.0 / mu0
                 for u in range(nvz):
-                    inv = 1.0 / view_cosines[u]
+                    if own_views:
+                        inv = 1.0 / column_view_cosines[col, u]
+                    else:
+                        inv = 1.0 / view_cosines[u]
                     for layer in range(nlay):
                         beam = sun_irradiance[col, s] / (4.0 * PI) \
                             * single_scattering_albedo[col, layer] \

@@ -29,6 +29,7 @@ from lamina._solver.common import (
     SurfaceArrays,
     ThermalSources,
     beam_cosines,
+    view_cosines,
 )
 from lamina.atmosphere import check_moment_values
 
@@ -58,7 +59,9 @@ def plan_blocks(atmosphere: xr.Dataset, options: Options, sources: ThermalSource
     """The inputs of every block, their core dims, and the outputs' names and dims.
 
     A bidirectional ``surface`` appends its arrays to the inputs (after the nine of
-    ``INPUT_CORE_DIMS``, with the core dims of ``common.SURFACE_CORE_DIMS``).
+    ``INPUT_CORE_DIMS``, with the core dims of ``common.SURFACE_CORE_DIMS``); per-pixel
+    views (``options.pixel_views``) append their zenith and azimuth last (no core dims),
+    and the radiance then has no view axes.
     """
     optics = [atmosphere[name] for name in
               ("optical_depth", "single_scattering_albedo", "phase_moments")]
@@ -81,6 +84,9 @@ def plan_blocks(atmosphere: xr.Dataset, options: Options, sources: ThermalSource
     if surface is not None:
         inputs += list(surface.arrays)
         core_in += [list(core) for core in SURFACE_CORE_DIMS]
+    if views.per_pixel:
+        inputs += list(options.pixel_views)
+        core_in += [[], []]
     # a core dim must be one dask chunk
     inputs = [
         array.chunk({dim: -1 for dim in core}) if array.chunks is not None else array
@@ -89,7 +95,11 @@ def plan_blocks(atmosphere: xr.Dataset, options: Options, sources: ThermalSource
     names = ["flux_up", "flux_down_diffuse", "flux_down_direct", "mean_intensity"]
     core_out = [[SUN_DIM, POSITION_DIM]] * 4
     sizes = {POSITION_DIM: options.positions.levels.size}
-    if views.wanted:
+    if views.per_pixel:
+        names.append("radiance")
+        core_out.append([SUN_DIM, POSITION_DIM, "direction"])
+        sizes.update(direction=2)
+    elif views.wanted:
         names.append("radiance")
         core_out.append([SUN_DIM, POSITION_DIM, "direction", "view_zenith", "view_azimuth"])
         sizes.update(direction=2, view_zenith=views.zenith.size,
@@ -116,11 +126,13 @@ def prepare_block(
     top_radiance: np.ndarray,
     settings: BlockSettings,
     surface: tuple[np.ndarray, ...] = (),
+    views: tuple[np.ndarray, ...] = (),
 ) -> Block:
     """One block's inputs broadcast to (column, ...), checked, with moments trimmed.
 
     ``surface``: a bidirectional surface's arrays (core dims last), broadcast to the
     block's columns for the kernel (empty for the Lambertian ``surface_albedo``).
+    ``views``: per-pixel view zenith and azimuth in degrees (empty for shared views).
     """
     lead = np.broadcast_shapes(
         tau.shape[:-1], albedo.shape[:-1], moments.shape[:-2], sun_zenith.shape[:-1],
@@ -128,6 +140,7 @@ def prepare_block(
         planck_surface.shape, top_radiance.shape,
         *(array.shape[:array.ndim - len(core)]
           for array, core in zip(surface, SURFACE_CORE_DIMS, strict=False)),
+        *(array.shape for array in views),
     )
     nlayer = tau.shape[-1]
     nsun = sun_zenith.shape[-1]
@@ -153,6 +166,7 @@ def prepare_block(
         require_range(surface_albedo, "surface_albedo", 0.0, 1.0)
         require_range(planck_levels, "temperature (as Planck radiance)", 0.0)
         require_range(top_radiance, "top_diffuse_radiance", 0.0)
+        pixel_views = _view_columns(views, lead, ncol)
     except ValueError as error:
         if settings.lazy:
             raise ValueError(f"{error} (the index counts within one dask chunk)") from None
@@ -164,7 +178,20 @@ def prepare_block(
         planck_levels=planck_levels, planck_surface=planck_surface,
         top_diffuse_radiance=top_radiance,
         surface=_surface_columns(surface, lead, ncol),
+        view_cosines=pixel_views[0], view_azimuths=pixel_views[1],
     )
+
+
+def _view_columns(views: tuple[np.ndarray, ...], lead: tuple[int, ...],
+                  ncol: int) -> tuple[np.ndarray | None, np.ndarray | None]:
+    """Per-pixel views as the kernel's (column, 1) cosines and azimuths (radians), checked."""
+    if not views:
+        return None, None
+    zenith, azimuth = (np.broadcast_to(array, lead).reshape(ncol, 1) for array in views)
+    require_range(zenith, "view_zenith", 0.0, 90.0)
+    require_range(azimuth, "view_azimuth")
+    return (np.ascontiguousarray(view_cosines(zenith)),
+            np.ascontiguousarray(np.radians(azimuth)))
 
 
 def _surface_columns(surface: tuple[np.ndarray, ...], lead: tuple[int, ...],
@@ -200,7 +227,9 @@ def pack_block(block: Block, fields: Fields, depth: np.ndarray,
     outputs = [fields.flux_up, fields.flux_down_diffuse, fields.flux_down_direct,
                fields.mean_intensity]
     if radiance:
-        outputs.append(fields.radiance)
+        # per-pixel views: the kernel's one view axis pair goes
+        outputs.append(fields.radiance[..., 0, 0] if block.view_cosines is not None
+                       else fields.radiance)
     lead = block.lead
     outputs = [array.reshape(*lead, *array.shape[1:]) for array in outputs]
     outputs.append(fields.fourier_terms.reshape(lead))

@@ -87,7 +87,7 @@ def _single_scattering_correction(block: Block, layers: Layers, positions: Posit
     albedo_s, moments_s = layers.single_scattering_albedo, layers.phase_moments
     mu0 = block.beam_cosines
     ncol, nsun = mu0.shape
-    cosine = scattering_cosines(mu0, views)                     # (col, sun, 2, vz, va)
+    cosine = scattering_cosines(mu0, views, block)              # (col, sun, 2, vz, va)
     shape = cosine.shape[1:]
     flat = cosine.reshape(ncol, 1, -1)
     # the correction is linear in w P of each layer: one contraction of the difference of
@@ -107,7 +107,8 @@ def _single_scattering_correction(block: Block, layers: Layers, positions: Posit
     _kernel.single_scattering(
         tau_s, np.ones_like(tau_s), np.ascontiguousarray(weighted_phase), mu0,
         np.ascontiguousarray(block.sun_irradiance, dtype=np.float64), positions.layer,
-        positions.fraction, views.cosines, 1.0, correction)
+        positions.fraction, views.cosines, 1.0, correction,
+        **({} if block.view_cosines is None else {"column_view_cosines": block.view_cosines}))
     return correction
 
 
@@ -154,7 +155,7 @@ def _aureole_correction(block: Block, truncation: np.ndarray, positions: Positio
                     - x * np.exp(total - attenuation))
     coefficients *= irradiance[:, :, None, None] / (4.0 * np.pi)
     # scattering angle of each downward view direction from the beam
-    cosine = scattering_cosines(mu0, views)[:, :, 1]                      # (col, sun, vz, va)
+    cosine = scattering_cosines(mu0, views, block)[:, :, 1]               # (col, sun, vz, va)
     terms = coefficients.shape[-1]
     table = phase.legendre_polynomials(cosine.reshape(*cosine.shape[:2], -1), terms)
     weighted = coefficients * (2.0 * np.arange(terms) + 1.0)

@@ -48,6 +48,9 @@ def solve_block(block: Block, layers: Layers, settings: BlockSettings) -> Fields
         settings.max_fourier_terms, settings.fourier_tolerance, settings.thermal,
         flux_up, flux_down, mean_intensity, radiance, terms, status,
         **(block.surface or {}),
+        **({} if block.view_cosines is None else {
+            "column_view_cosines": block.view_cosines,
+            "column_view_azimuths": block.view_azimuths}),
     )
     _raise_failure(status)
     return Fields(flux_up=flux_up, flux_down_diffuse=flux_down,

@@ -55,7 +55,13 @@ def _labelled(results, names, atmosphere: xr.Dataset, options: Options) -> xr.Da
         cumulative_optical_depth=depth,
     )
     views = options.views
-    if views.wanted:
+    if views.per_pixel:
+        # one view per pixel: the angles are coordinates along the pixels' dims
+        view_zenith, view_azimuth = (array.drop_vars(list(array.coords))
+                                     for array in options.pixel_views)
+        out = out.assign_coords(direction=["up", "down"], view_zenith=view_zenith,
+                                view_azimuth=view_azimuth)
+    elif views.wanted:
         out = out.assign_coords(direction=["up", "down"], view_zenith=views.zenith,
                                 view_azimuth=views.azimuth)
     zenith = options.sun_zenith

@@ -57,6 +57,10 @@ def surface_arrays(surface: object, options: Options, thermal: bool) -> SurfaceA
     """The kernel's arrays of a bidirectional surface for this run, or None without one."""
     if surface is None:
         return None
+    if options.views.per_pixel:
+        raise ValueError("surface= with one view per pixel (view_zenith or view_azimuth "
+                         "as a DataArray) is not supported yet: give lists of view angles "
+                         "or use surface_albedo")
     zenith = options.sun_zenith
     if options.beam and zenith.chunks is None:
         # the energy check at the run's own sun angles (the surface checked its grid)
