@@ -33,6 +33,7 @@ from lamina import (
 )
 from lamina._checks import LaminaWarning
 from lamina.atmosphere import check_atmosphere, make_atmosphere
+from lamina.prepared import Solver
 from lamina.solve import SolverError, solve
 
 __version__ = "0.1.0"
@@ -42,6 +43,7 @@ _LAZY_MODULES = ("plotting", "validation")
 
 __all__ = [
     "LaminaWarning",
+    "Solver",
     "SolverError",
     "__version__",
     "check_atmosphere",

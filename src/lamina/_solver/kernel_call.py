@@ -16,6 +16,7 @@ and more streams, made flux runs several times slower (``benchmarks/threads.py``
 from __future__ import annotations
 
 import contextlib
+import functools
 import threading
 from collections.abc import Iterator
 
@@ -90,9 +91,18 @@ def single_blas_thread() -> Iterator[None]:
                 _set_threads(_pool["restore"])
 
 
+@functools.lru_cache(maxsize=16)
+def _quadrature(streams: int) -> tuple[np.ndarray, np.ndarray]:
+    """Double-Gauss cosines and weights, computed once per stream count (read-only)."""
+    mu, weights = double_gauss(streams)
+    mu.flags.writeable = False
+    weights.flags.writeable = False
+    return mu, weights
+
+
 def solve_block(block: Block, layers: Layers, settings: BlockSettings) -> Fields:
     """The kernel's fields of the (scaled) problem for every column of a block."""
-    mu, weights = double_gauss(settings.streams)
+    mu, weights = _quadrature(settings.streams)
     positions, views = settings.positions, settings.views
     ncol, nsun = block.beam_cosines.shape
     npos, nvz, nva = positions.levels.size, views.cosines.size, views.azimuth_radians.size
