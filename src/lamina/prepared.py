@@ -33,10 +33,13 @@ class Solver:
 
     Parameters
     ----------
-    streams, sun_zenith, view_zenith, view_azimuth, output_levels, delta_m, \
-single_scattering_correction, aureole_correction, fourier_tolerance, max_fourier_terms
+    streams, sun_zenith, view_zenith, view_azimuth
         As for :func:`lamina.solve` (``sun_zenith`` a scalar or a list, views as lists;
-        without ``sun_zenith`` there is no beam). They are checked here, once.
+        without ``sun_zenith`` there is no beam). Checked here, once.
+    output_levels, delta_m, single_scattering_correction, aureole_correction
+        As for :func:`lamina.solve`.
+    fourier_tolerance, max_fourier_terms
+        As for :func:`lamina.solve`.
     surface, wavenumber_band, wavenumber : not supported
         Bidirectional surfaces and thermal emission need :func:`lamina.solve`; giving them
         here is a ValueError.
