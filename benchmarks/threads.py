@@ -17,6 +17,7 @@ import argparse
 import os
 import sys
 import time
+import warnings
 from pathlib import Path
 
 import numpy as np
@@ -56,6 +57,7 @@ def main() -> None:
     parser.add_argument("--columns", type=int, default=4)
     parser.add_argument("--layers", type=int, default=60)
     args = parser.parse_args()
+    warnings.simplefilter("ignore", lamina.LaminaWarning)   # short phase series: see run.py
     pools = [pool["num_threads"] for pool in threadpool_info() if pool["user_api"] == "blas"]
     atmosphere = random_atmosphere(args.columns, args.layers)
     load = os.getloadavg()[0]
