@@ -130,8 +130,28 @@ def test_lazy_per_pixel_views_are_checked_in_their_block():
         out.radiance.compute()
 
 
-def test_a_bidirectional_surface_with_per_pixel_views_is_refused_for_now():
+def test_a_bidirectional_surface_with_per_pixel_views_equals_separate_runs():
+    # the surface's view arrays are evaluated at each pixel's own view; a surface parameter
+    # along the pixel dim as well
     atm = swath()
-    with pytest.raises(ValueError, match="surface= with one view per pixel"):
-        lamina.solve(atm, streams=4, sun_zenith=30.0, surface=lamina.surface.lambertian(0.2),
+    amplitudes = [0.05, 0.1, 0.2, 0.15, 0.3]
+    surface = lamina.surface.rahman_pinty_verstraete(
+        xr.DataArray(amplitudes, dims="pixel"), 0.7, -0.2)
+    options = {"streams": 8, "surface": surface}
+    together = lamina.solve(atm, **GEOMETRY, **options)
+    for index in range(PIXELS):
+        alone = _separate(atm, index, streams=8, surface=lamina.surface.rahman_pinty_verstraete(
+            amplitudes[index], 0.7, -0.2))
+        np.testing.assert_array_equal(
+            together.radiance.isel(pixel=index).values,
+            alone.radiance.isel(view_zenith=0, view_azimuth=0).values)
+        for name in OUTPUTS:
+            np.testing.assert_array_equal(together[name].isel(pixel=index).values,
+                                          alone[name].values)
+
+
+def test_a_bidirectional_surface_with_per_pixel_views_and_thermal_emission_is_refused():
+    with pytest.raises(ValueError, match="one view per pixel .* and thermal emission"):
+        lamina.solve(swath(), streams=4, sun_zenith=30.0, wavenumber_band=(600.0, 700.0),
+                     surface=lamina.surface.lambertian(0.2),
                      view_zenith=GEOMETRY["view_zenith"], view_azimuth=0.0)
