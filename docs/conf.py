@@ -57,6 +57,7 @@ PUBLIC_MODULES = [
     "lamina.planck",
     "lamina.mie",
     "lamina.quadrature",
+    "lamina.geometry",
     "lamina.scenario",
     "lamina.io",
     "lamina.plotting",

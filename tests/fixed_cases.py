@@ -91,12 +91,17 @@ def cases() -> dict[str, Callable[[], xr.Dataset]]:
     }
 
 
+#: Outputs added after the store was written, derived from stored ones and checked in their
+#: own tests (reflectance = pi I / (mu0 S): tests/test_reflectance.py); not pinned here.
+LATER_OUTPUTS = frozenset({"reflectance"})
+
+
 def outputs(dataset: xr.Dataset) -> dict[str, np.ndarray]:
     """Every numeric data variable and coordinate, transposed to sorted dims."""
     arrays = {}
     for name in sorted(set(dataset.data_vars) | set(dataset.coords)):
         array = dataset[name]
-        if array.dtype.kind not in "fiu":
+        if array.dtype.kind not in "fiu" or name in LATER_OUTPUTS:
             continue
         arrays[name] = array.transpose(*sorted(array.dims)).values.astype(float)
     return arrays

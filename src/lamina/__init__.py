@@ -2,9 +2,10 @@
 
 ``import lamina`` makes every public module available as an attribute: ``lamina.phase``,
 ``lamina.planck``, ``lamina.io``, ``lamina.mie``, ``lamina.scenario``, ``lamina.surface``,
-``lamina.planet``, ``lamina.polarization``, ``lamina.spherical``, ``lamina.progress`` and
-``lamina.quadrature`` are imported with the package; ``lamina.plotting`` (which loads
-matplotlib) and ``lamina.validation`` are imported on first use.
+``lamina.planet``, ``lamina.polarization``, ``lamina.spherical``, ``lamina.geometry``,
+``lamina.progress`` and ``lamina.quadrature`` are imported with the package;
+``lamina.plotting`` (which loads matplotlib) and ``lamina.validation`` are imported on first
+use.
 
 >>> import lamina
 >>> atm = lamina.make_atmosphere(optical_depth=[0.1, 1.0], single_scattering_albedo=[1.0, 0.9],
@@ -17,6 +18,7 @@ import importlib as _importlib
 # io, mie and scenario import lamina.solve only inside their functions, so the order of
 # these imports cannot make a cycle
 from lamina import (
+    geometry,
     io,
     mie,
     phase,
@@ -31,6 +33,7 @@ from lamina import (
 )
 from lamina._checks import LaminaWarning
 from lamina.atmosphere import check_atmosphere, make_atmosphere
+from lamina.prepared import Solver
 from lamina.solve import SolverError, solve
 
 __version__ = "0.1.0"
@@ -40,9 +43,11 @@ _LAZY_MODULES = ("plotting", "validation")
 
 __all__ = [
     "LaminaWarning",
+    "Solver",
     "SolverError",
     "__version__",
     "check_atmosphere",
+    "geometry",
     "io",
     "make_atmosphere",
     "mie",

@@ -82,8 +82,9 @@ def solve(
         cosines per hemisphere.
     sun_zenith : float, list of float or DataArray, optional
         Zenith angle of the incident beam in degrees, 0 <= theta_0 < 90 (with
-        ``planet_radius``: up to 180, as long as the beam reaches some level). A list becomes the
-        output dim ``sun_zenith``; all its angles share one homogeneous solution. Without
+        ``planet_radius``: up to 180, as long as the beam reaches some level). A list becomes
+        the output dim ``sun_zenith``; all its angles share one homogeneous solution. A
+        DataArray along the atmosphere's extra dims gives each column its own sun. Without
         it there is no beam (no default adds a source): the run is thermal, or lit only by
         ``top_diffuse_radiance``, and only the azimuth-averaged term is solved.
     sun_irradiance : float, array or DataArray, optional
@@ -99,6 +100,14 @@ def solve(
         propagation from the vertical (0..90, with ``direction`` up or down) and azimuth of
         propagation measured from that of the beam (0 = forward-scattering side, 180 =
         backscattering side). Without them only the azimuth-independent problem is solved.
+        Lists are an outer product: every column at every (zenith, azimuth) pair, on the
+        output dims ``view_zenith`` and ``view_azimuth``. One view per pixel: give either as
+        a DataArray whose dims are among the atmosphere's extra dims (the other may then be
+        a scalar); each column is solved at its own view only, ``radiance`` has dims
+        (..., level, direction) without view axes, and the angles become coordinates
+        along the pixels' dims. Satellite azimuths convert with
+        :func:`lamina.geometry.relative_azimuth`. With ``sun_zenith`` a DataArray along the
+        same dims each pixel has its own sun as well.
     wavenumber_band : (low, high), optional
         Band (cm-1) over which the Planck source is integrated (thermal emission). Each
         bound may be a DataArray along the atmosphere's extra dims (one band per
@@ -229,20 +238,23 @@ def _solve_block(
     planck_levels: np.ndarray,
     planck_surface: np.ndarray,
     top_radiance: np.ndarray,
-    *surface: np.ndarray,
+    *more: np.ndarray,
     settings: BlockSettings,
 ) -> tuple[np.ndarray, ...]:
     """Solve one block of columns (numpy in, numpy out); leading axes are columns.
 
-    ``surface``: the arrays of a bidirectional surface (``_solver.surface_terms``), if any,
-    then the level radii of a curved planet (``settings.spherical``).
+    ``more``: the arrays of a bidirectional surface (``_solver.surface_terms``), if any,
+    then the level radii of a curved planet (``settings.spherical``), then per-pixel view
+    zenith and azimuth, if given so.
     """
-    radius = None
-    if settings.spherical:
-        *surface, radius = surface
+    more = list(more)
+    views = tuple(more[-2:]) if settings.views.per_pixel else ()
+    if views:
+        del more[-2:]
+    radius = more.pop() if settings.spherical else None
     block = prepare_block(tau, albedo, moments, sun_zenith, irradiance, surface_albedo,
                           planck_levels, planck_surface, top_radiance, settings,
-                          surface=tuple(surface), radius=radius)
+                          surface=tuple(more), radius=radius, views=views)
     warn_about_phase_functions(block, settings)
     layers = scale_layers(block.optical_depth, block.single_scattering_albedo,
                           block.phase_moments, settings.streams, settings.delta_m)

@@ -390,6 +390,8 @@ def solve_columns(
     const double[:, ::1] surface_view_emissivity=None,
     const double[:, :, ::1] beam_slant_optical_depth=None,
     const double[:, :, ::1] beam_layer_cosine=None,
+    const double[:, ::1] column_view_cosines=None,
+    const double[:, ::1] column_view_azimuths=None,
 ):
     """Solve many columns (see the module docstring for the method).
 
@@ -418,6 +420,11 @@ def solve_columns(
     then S exp(-slant_j) exp(-(t - t_j) / cosine_j) with the angular part of the true
     sun_cosine, which may be <= 0 there (twilight), and the ground receives
     max(mu0, 0) S exp(-slant at the ground).
+
+    Views of each column's own (both keywords, or none for the views shared by every
+    column): column_view_cosines (column, vz) and column_view_azimuths (column, va) replace
+    ``view_cosines`` and ``view_azimuths`` (whose lengths still give vz and va) in each
+    column; the radiance of column c is at its own row's angles.
     """
     cdef Sizes sz
     cdef Scratch sc
@@ -428,7 +435,7 @@ def solve_columns(
     cdef Py_ssize_t ncol = optical_depth.shape[0]
     cdef Py_ssize_t n = quadrature_cosines.shape[0]
     cdef Py_ssize_t col, i, nmodes
-    cdef bint want_radiance, bidirectional, spherical
+    cdef bint want_radiance, bidirectional, spherical, own_views
 
     sz.n = n
     sz.nl = 2 * n
@@ -473,6 +480,8 @@ def solve_columns(
         (surface_fourier, surface_beam_fourier, surface_view_fourier, surface_view_beam,
          surface_emissivity, surface_view_emissivity))
     cl.bidirectional = bidirectional
+    own_views = _check_column_views(ncol, sz.nvz, sz.nva, column_view_cosines,
+                                    column_view_azimuths)
     cl.surface_terms = surface_fourier.shape[1] if bidirectional else 0
     spherical = _check_spherical(ncol, sz.nsun, sz.nlayer, beam_slant_optical_depth,
                                  beam_layer_cosine)
@@ -516,6 +525,9 @@ def solve_columns(
             out.radiance = &radiance[col, 0, 0, 0, 0, 0]
             out.fourier_terms = &fourier_terms[col]
             out.status = &status[col, 0]
+            if own_views and want_radiance:
+                gr.umu = &column_view_cosines[col, 0]
+                gr.phi = &column_view_azimuths[col, 0]
             start_column(&sz, &sc, &ly, &cl, &gr, want_radiance, &out)
             if bidirectional and want_radiance:
                 surface_beam_views(&sz, &cl, &gr, out.radiance)
@@ -560,6 +572,21 @@ def _check_spherical(ncol, nsun, nlayer, slant, cosine):
             raise ValueError(f"solve_columns: {name} has shape {shape}, expected {want}")
     if not np.all(np.asarray(cosine) > 0.0):
         raise ValueError("solve_columns: beam_layer_cosine must be positive")
+    return True
+
+
+def _check_column_views(ncol, nvz, nva, cosines, azimuths):
+    """True for views of each column's own; refuse one without the other or a bad shape."""
+    if cosines is None and azimuths is None:
+        return False
+    if cosines is None or azimuths is None:
+        raise ValueError("solve_columns: give column_view_cosines and column_view_azimuths "
+                         "together or neither")
+    for name, array, want in (("column_view_cosines", cosines, (ncol, nvz)),
+                              ("column_view_azimuths", azimuths, (ncol, nva))):
+        shape = tuple(np.asarray(array).shape)
+        if shape != want:
+            raise ValueError(f"solve_columns: {name} has shape {shape}, expected {want}")
     return True
 
 
@@ -611,6 +638,7 @@ def single_scattering(
     *,
     const double[:, :, ::1] beam_slant_optical_depth=None,
     const double[:, :, ::1] beam_layer_cosine=None,
+    const double[:, ::1] column_view_cosines=None,
 ):
     """Add ``sign`` times the singly scattered beam radiance to ``radiance``.
 
@@ -620,6 +648,7 @@ def single_scattering(
     A pseudo-spherical beam: the two keywords as for :func:`solve_columns` (the beam
     reaches layer j's top attenuated by its slant depth and decays inside with the
     layer's cosine; sun_cosine then only enters through phase_function).
+    column_view_cosines (column, vz), if given, replaces view_cosines in each column.
     """
     cdef Py_ssize_t ncol = optical_depth.shape[0], nlay = optical_depth.shape[1]
     cdef Py_ssize_t nsun = sun_cosine.shape[1], npos = position_layer.shape[0]
@@ -629,6 +658,7 @@ def single_scattering(
     cdef bint spherical = _check_spherical(ncol, nsun, nlay, beam_slant_optical_depth,
                                            beam_layer_cosine)
     cdef double[::1] secants = np.zeros(nlay), top_beam = np.zeros(nlay)
+    cdef bint own_views = column_view_cosines is not None
     cdef double[::1] up_levels = np.zeros(nlay + 1), down_levels = np.zeros(nlay + 1)
     cdef double[::1] tops = np.zeros(nlay + 1)
     # per layer and view cosine, the same for every azimuth: transmittance along the view and
@@ -648,6 +678,9 @@ def single_scattering(
             or radiance.shape[2] != npos or radiance.shape[3] != 2 or radiance.shape[4] != nvz
             or position_fraction.shape[0] != npos or sun_cosine.shape[0] != ncol):
         raise ValueError("single_scattering: arrays disagree in shape")
+    if own_views and (column_view_cosines.shape[0] != ncol
+                      or column_view_cosines.shape[1] != nvz):
+        raise ValueError("single_scattering: column_view_cosines must be (column, vz)")
     if npos and (np.asarray(position_layer).min() < 0
                  or np.asarray(position_layer).max() >= nlay):
         raise ValueError("single_scattering: position_layer out of range")
@@ -667,7 +700,10 @@ def single_scattering(
                         secants[layer] = sec
                         top_beam[layer] = exp(-tops[layer] * sec)
                 for u in range(nvz):
-                    inv = 1.0 / view_cosines[u]
+                    if own_views:
+                        inv = 1.0 / column_view_cosines[col, u]
+                    else:
+                        inv = 1.0 / view_cosines[u]
                     for layer in range(nlay):
                         sec = secants[layer]
                         beam = sun_irradiance[col, s] / (4.0 * PI) \

@@ -24,5 +24,7 @@ and, inside each block of columns (numpy in, numpy out):
 Rooms import downward only: every step module imports :mod:`lamina._solver.common` (the
 error type, constants, private dim names, the records passed between steps and the geometry
 helpers) and library modules (:mod:`lamina.phase`, :mod:`lamina.planck`,
-:mod:`lamina._kernel`, ...), never another step. Only :mod:`lamina.solve` imports the steps.
+:mod:`lamina._kernel`, ...), never another step. Only the drivers import the steps:
+:mod:`lamina.solve`, and :mod:`lamina.prepared`, whose :class:`~lamina.Solver` checks the
+options once and runs the block steps on numpy arrays (no apply and no describe step).
 """

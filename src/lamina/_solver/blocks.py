@@ -29,6 +29,7 @@ from lamina._solver.common import (
     SurfaceArrays,
     ThermalSources,
     beam_cosines,
+    view_cosines,
 )
 from lamina.atmosphere import check_moment_values
 from lamina.spherical import air_mass_factors
@@ -61,7 +62,9 @@ def plan_blocks(atmosphere: xr.Dataset, options: Options, sources: ThermalSource
 
     A bidirectional ``surface`` appends its arrays to the inputs (after the nine of
     ``INPUT_CORE_DIMS``, with the core dims of ``common.SURFACE_CORE_DIMS``); the level
-    ``radius`` of a curved planet (pseudo-spherical beam) comes last (core dim level).
+    ``radius`` of a curved planet (pseudo-spherical beam) comes next (core dim level), and
+    per-pixel views (``options.pixel_views``) append their zenith and azimuth last (no core
+    dims; the radiance then has no view axes).
     """
     optics = [atmosphere[name] for name in
               ("optical_depth", "single_scattering_albedo", "phase_moments")]
@@ -88,6 +91,9 @@ def plan_blocks(atmosphere: xr.Dataset, options: Options, sources: ThermalSource
     if radius is not None:
         inputs.append(radius)
         core_in.append(["level"])
+    if views.per_pixel:
+        inputs += list(options.pixel_views)
+        core_in += [[], []]
     # a core dim must be one dask chunk
     inputs = [
         array.chunk({dim: -1 for dim in core}) if array.chunks is not None else array
@@ -96,7 +102,11 @@ def plan_blocks(atmosphere: xr.Dataset, options: Options, sources: ThermalSource
     names = ["flux_up", "flux_down_diffuse", "flux_down_direct", "mean_intensity"]
     core_out = [[SUN_DIM, POSITION_DIM]] * 4
     sizes = {POSITION_DIM: options.positions.levels.size}
-    if views.wanted:
+    if views.per_pixel:
+        names.append("radiance")
+        core_out.append([SUN_DIM, POSITION_DIM, "direction"])
+        sizes.update(direction=2)
+    elif views.wanted:
         names.append("radiance")
         core_out.append([SUN_DIM, POSITION_DIM, "direction", "view_zenith", "view_azimuth"])
         sizes.update(direction=2, view_zenith=views.zenith.size,
@@ -124,6 +134,7 @@ def prepare_block(
     settings: BlockSettings,
     surface: tuple[np.ndarray, ...] = (),
     radius: np.ndarray | None = None,
+    views: tuple[np.ndarray, ...] = (),
 ) -> Block:
     """One block's inputs broadcast to (column, ...), checked, with moments trimmed.
 
@@ -131,6 +142,7 @@ def prepare_block(
     block's columns for the kernel (empty for the Lambertian ``surface_albedo``).
     ``radius``: the level radii of a curved planet (..., level), for the pseudo-spherical
     beam's air-mass factors.
+    ``views``: per-pixel view zenith and azimuth in degrees (empty for shared views).
     """
     lead = np.broadcast_shapes(
         tau.shape[:-1], albedo.shape[:-1], moments.shape[:-2], sun_zenith.shape[:-1],
@@ -139,6 +151,7 @@ def prepare_block(
         *(array.shape[:array.ndim - len(core)]
           for array, core in zip(surface, SURFACE_CORE_DIMS, strict=False)),
         *(() if radius is None else (radius.shape[:-1],)),
+        *(array.shape for array in views),
     )
     nlayer = tau.shape[-1]
     nsun = sun_zenith.shape[-1]
@@ -165,6 +178,7 @@ def prepare_block(
         require_range(surface_albedo, "surface_albedo", 0.0, 1.0)
         require_range(planck_levels, "temperature (as Planck radiance)", 0.0)
         require_range(top_radiance, "top_diffuse_radiance", 0.0)
+        pixel_views = _view_columns(views, lead, ncol)
     except ValueError as error:
         if settings.lazy:
             raise ValueError(f"{error} (the index counts within one dask chunk)") from None
@@ -181,6 +195,7 @@ def prepare_block(
         planck_levels=planck_levels, planck_surface=planck_surface,
         top_diffuse_radiance=top_radiance,
         surface=_surface_columns(surface, lead, ncol),
+        view_cosines=pixel_views[0], view_azimuths=pixel_views[1],
     )
 
 
@@ -210,6 +225,18 @@ def _beam_paths(radius: np.ndarray, zenith: np.ndarray) -> tuple[np.ndarray, np.
             f"sun_zenith: the sun is below the horizon at every level (column {column}, sun "
             f"angle {sun}: {zenith[column, sun]:g} degrees); the beam reaches no level")
     return factors, reaches
+
+
+def _view_columns(views: tuple[np.ndarray, ...], lead: tuple[int, ...],
+                  ncol: int) -> tuple[np.ndarray | None, np.ndarray | None]:
+    """Per-pixel views as the kernel's (column, 1) cosines and azimuths (radians), checked."""
+    if not views:
+        return None, None
+    zenith, azimuth = (np.broadcast_to(array, lead).reshape(ncol, 1) for array in views)
+    require_range(zenith, "view_zenith", 0.0, 90.0)
+    require_range(azimuth, "view_azimuth")
+    return (np.ascontiguousarray(view_cosines(zenith)),
+            np.ascontiguousarray(np.radians(azimuth)))
 
 
 def _surface_columns(surface: tuple[np.ndarray, ...], lead: tuple[int, ...],
@@ -245,7 +272,9 @@ def pack_block(block: Block, fields: Fields, depth: np.ndarray,
     outputs = [fields.flux_up, fields.flux_down_diffuse, fields.flux_down_direct,
                fields.mean_intensity]
     if radiance:
-        outputs.append(fields.radiance)
+        # per-pixel views: the kernel's one view axis pair goes
+        outputs.append(fields.radiance[..., 0, 0] if block.view_cosines is not None
+                       else fields.radiance)
     lead = block.lead
     outputs = [array.reshape(*lead, *array.shape[1:]) for array in outputs]
     outputs.append(fields.fourier_terms.reshape(lead))

@@ -84,6 +84,10 @@ class Views:
     azimuth: np.ndarray
     cosines: np.ndarray
     azimuth_radians: np.ndarray
+    #: True for one view per pixel (``view_zenith``/``view_azimuth`` given as DataArrays
+    #: along the atmosphere's extra dims): each column has its own view (block inputs),
+    #: and the arrays above are one placeholder angle that sets the kernel's sizes
+    per_pixel: bool = False
 
     @property
     def wanted(self) -> bool:
@@ -119,6 +123,9 @@ class Options:
     positions: Positions
     #: True when outputs are on every level (no output_levels given)
     on_levels: bool
+    #: per-pixel views (``views.per_pixel``): zenith and azimuth in degrees as DataArrays
+    #: along the atmosphere's extra dims
+    pixel_views: tuple[xr.DataArray, xr.DataArray] | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -194,6 +201,10 @@ class Block:
     #: it reaches a level (column, sun, level); None for the plane-parallel beam
     air_mass_factors: np.ndarray | None = None
     beam_reaches: np.ndarray | None = None
+    #: per-pixel views: cosines and azimuths (radians) of each column's view, (column, 1);
+    #: None for views shared by every column
+    view_cosines: np.ndarray | None = None
+    view_azimuths: np.ndarray | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -301,19 +312,23 @@ def view_cosines(view_zenith: np.ndarray) -> np.ndarray:
     return np.maximum(np.cos(np.radians(view_zenith)), GRAZING_COSINE)
 
 
-def scattering_cosines(mu0: np.ndarray, views: Views) -> np.ndarray:
+def scattering_cosines(mu0: np.ndarray, views: Views, block: Block | None = None) -> np.ndarray:
     """cos of the scattering angle from the beam into each view direction.
 
     The beam propagates along -mu0; the view directions are up (+mu) and down (-mu) at each
     relative azimuth. Returns (column, sun, direction, view_zenith, view_azimuth), direction
-    0 up and 1 down.
+    0 up and 1 down. Per-pixel views (``views.per_pixel``) are the ``block``'s own.
     """
     sin0 = np.sqrt(1.0 - mu0**2)[:, :, None, None, None]
     cos0 = mu0[:, :, None, None, None]
     sign = np.array([1.0, -1.0])[None, None, :, None, None]
-    muv = views.cosines[None, None, None, :, None]
+    if views.per_pixel:
+        muv = block.view_cosines[:, None, None, :, None]
+        azimuth = np.cos(block.view_azimuths)[:, None, None, None, :]
+    else:
+        muv = views.cosines[None, None, None, :, None]
+        azimuth = np.cos(views.azimuth_radians)[None, None, None, None, :]
     sinv = np.sqrt(1.0 - muv**2)
-    azimuth = np.cos(views.azimuth_radians)[None, None, None, None, :]
     cosine = -sign * muv * cos0 + sinv * sin0 * azimuth
     return np.clip(cosine, -1.0, 1.0)
 

@@ -127,8 +127,7 @@ def _single_scattering_correction(block: Block, layers: Layers, positions: Posit
     difference = np.zeros((ncol, moments.shape[1], terms))
     difference[..., :moments.shape[-1]] = albedo_exact[..., None] * moments
     difference[..., :moments_s.shape[-1]] -= albedo_s[..., None] * moments_s
-    table = _per_distinct_suns(mu0, lambda cos0: phase.legendre_polynomials(
-        scattering_cosines(cos0, views).reshape(cos0.shape[0], -1), terms))
+    table = _scattering_legendre(mu0, views, block, terms)
     weighted_phase = _contract(difference, table).reshape(ncol, moments.shape[1], *shape)
     correction = np.zeros((ncol, nsun, positions.layer.size, 2, *shape[2:]))
     tau_s = layers.optical_depth
@@ -139,7 +138,8 @@ def _single_scattering_correction(block: Block, layers: Layers, positions: Posit
     _kernel.single_scattering(
         tau_s, np.ones_like(tau_s), np.ascontiguousarray(weighted_phase), mu0,
         np.ascontiguousarray(block.sun_irradiance, dtype=np.float64), positions.layer,
-        positions.fraction, views.cosines, 1.0, correction, **spherical)
+        positions.fraction, views.cosines, 1.0, correction, **spherical,
+        **({} if block.view_cosines is None else {"column_view_cosines": block.view_cosines}))
     return correction
 
 
@@ -190,8 +190,7 @@ def _aureole_correction(block: Block, truncation: np.ndarray, positions: Positio
     coefficients *= irradiance[:, :, None, None] / (4.0 * np.pi)
     # scattering angle of each downward view direction from the beam
     terms = coefficients.shape[-1]
-    table = _per_distinct_suns(mu0, lambda cos0: phase.legendre_polynomials(
-        scattering_cosines(cos0, views)[:, :, 1].reshape(*cos0.shape, -1), terms))
+    table = _scattering_legendre(mu0, views, block, terms, down_only=True)
     weighted = coefficients * (2.0 * np.arange(terms) + 1.0)
     summed = np.einsum("cspl,cskl->cspk", weighted, table, optimize=False)
     return summed.reshape(*summed.shape[:3], views.cosines.size, views.azimuth_radians.size)
@@ -218,6 +217,25 @@ def _spherical_peak_paths(block: Block, weighted_peak: np.ndarray, positions: Po
     depth = slant_at_positions(slant, cosine, tau, positions)[..., None]
     x = np.where(np.isfinite(depth), x, 0.0)
     return x, depth
+
+
+def _scattering_legendre(mu0: np.ndarray, views: Views, block: Block, terms: int,
+                         down_only: bool = False) -> np.ndarray:
+    """P_l of the scattering angle from the beam into each view direction.
+
+    (column, sun * 2 * vz * va, l), or with ``down_only`` (column, sun, vz * va, l) for the
+    downward views. Shared views: once per distinct set of sun angles; per-pixel views
+    (each column its own) directly.
+    """
+    def table(cos0: np.ndarray, own: Block | None = None) -> np.ndarray:
+        cosine = scattering_cosines(cos0, views, own)
+        if down_only:
+            return phase.legendre_polynomials(cosine[:, :, 1].reshape(*cos0.shape, -1), terms)
+        return phase.legendre_polynomials(cosine.reshape(cos0.shape[0], -1), terms)
+
+    if views.per_pixel:
+        return table(mu0, block)
+    return _per_distinct_suns(mu0, table)
 
 
 def _per_distinct_suns(mu0: np.ndarray, table) -> np.ndarray:

@@ -89,6 +89,7 @@ def check_options(
     check_option_values(albedo, "surface_albedo", low=0.0, high=1.0)
     top = option_array(top_diffuse_radiance, "top_diffuse_radiance", extra)
     check_option_values(top, "top_diffuse_radiance", low=0.0)
+    pixel = pixel_view_angles(view_zenith, view_azimuth, extra)
     if not beam or (irradiance.chunks is None and not np.any(irradiance.values)):
         # without a beam nothing depends on azimuth: the azimuth-averaged term is the whole
         # solution (and terms m > 0 of layers whose truncated phase function is not
@@ -104,9 +105,10 @@ def check_options(
         surface_albedo=albedo, top_diffuse_radiance=top,
         irradiance_units=_units_attribute(sun_irradiance, "sun_irradiance"),
         top_radiance_units=_units_attribute(top_diffuse_radiance, "top_diffuse_radiance"),
-        views=view_angles(view_zenith, view_azimuth),
+        views=view_angles(view_zenith, view_azimuth) if pixel is None else pixel[0],
         positions=output_positions(output_levels, atmosphere.sizes["layer"]),
         on_levels=output_levels is None,
+        pixel_views=None if pixel is None else pixel[1],
     )
 
 
@@ -187,6 +189,54 @@ def view_angles(view_zenith: object, view_azimuth: object) -> Views:
             raise ValueError("view_azimuth must not repeat a value")
     return Views(zenith=zenith, azimuth=azimuth, cosines=view_cosines(zenith),
                  azimuth_radians=np.radians(azimuth))
+
+
+def pixel_view_angles(
+    view_zenith: object, view_azimuth: object, extra: dict[str, int],
+) -> tuple[Views, tuple[xr.DataArray, xr.DataArray]] | None:
+    """One view per pixel: DataArray view angles along the atmosphere's extra dims.
+
+    None unless one of the two is a DataArray; the other may then be a scalar (shared by
+    every pixel). Returns placeholder Views (one angle: the kernel's sizes) and the two
+    DataArrays in degrees, checked where held in memory.
+    """
+    given = {"view_zenith": view_zenith, "view_azimuth": view_azimuth}
+    if not any(isinstance(value, xr.DataArray) for value in given.values()):
+        return None
+    arrays = []
+    for name, value in given.items():
+        if value is None:
+            raise ValueError("view_zenith and view_azimuth must be given together (or "
+                             "neither, for fluxes only)")
+        if isinstance(value, xr.DataArray):
+            outside = [str(dim) for dim in value.dims if dim not in extra]
+            if outside:
+                raise ValueError(
+                    f"{name} is a DataArray with dims {tuple(map(str, value.dims))}, but one "
+                    f"view per pixel needs dims among the atmosphere's extra dims "
+                    f"{tuple(extra)} ({outside} is not one); for views shared by every "
+                    "pixel give a list of degrees")
+            for dim in value.dims:
+                if value.sizes[dim] != extra[dim]:
+                    raise ValueError(f"{name} has {value.sizes[dim]} values along {dim!r} "
+                                     f"but the atmosphere has {extra[dim]}")
+            array = option_array(value, name)
+        else:
+            number = as_float_array(value, name)
+            if number.ndim != 0:
+                raise ValueError(
+                    f"{name} must be a scalar or a DataArray along the atmosphere's extra "
+                    f"dims when the other view angle is given per pixel; got shape "
+                    f"{number.shape}")
+            array = xr.DataArray(number)
+        arrays.append(array)
+    zenith, azimuth = arrays
+    check_option_values(zenith, "view_zenith", low=0.0, high=90.0)
+    check_option_values(azimuth, "view_azimuth")
+    placeholder = np.zeros(1)
+    views = Views(zenith=placeholder, azimuth=placeholder, cosines=np.ones(1),
+                  azimuth_radians=placeholder, per_pixel=True)
+    return views, (zenith, azimuth)
 
 
 def output_positions(output_levels: object, nlayer: int) -> Positions:

@@ -37,6 +37,7 @@ def assemble(
     """The output Dataset from the blocks' outputs (named in the plan's order)."""
     out = _labelled(results, names, atmosphere, options)
     out = _derived(out, atmosphere, options)
+    _reflectance(out, options)
     thermal = None if sources.units is None else sources.units.replace(" sr-1", "")
     units = output_units(options.beam, options.irradiance_units, thermal,
                          options.top_radiance_units)
@@ -55,7 +56,13 @@ def _labelled(results, names, atmosphere: xr.Dataset, options: Options) -> xr.Da
         cumulative_optical_depth=depth,
     )
     views = options.views
-    if views.wanted:
+    if views.per_pixel:
+        # one view per pixel: the angles are coordinates along the pixels' dims
+        view_zenith, view_azimuth = (array.drop_vars(list(array.coords))
+                                     for array in options.pixel_views)
+        out = out.assign_coords(direction=["up", "down"], view_zenith=view_zenith,
+                                view_azimuth=view_azimuth)
+    elif views.wanted:
         out = out.assign_coords(direction=["up", "down"], view_zenith=views.zenith,
                                 view_azimuth=views.azimuth)
     zenith = options.sun_zenith
@@ -103,6 +110,29 @@ def _derived(out: xr.Dataset, atmosphere: xr.Dataset, options: Options) -> xr.Da
     return out
 
 
+def _reflectance(out: xr.Dataset, options: Options) -> None:
+    """``reflectance`` = pi I / (mu0 S) of the upward radiance at the top (in place).
+
+    Only with a beam, radiances and the top among the output positions; NaN in a column
+    whose beam has S = 0 (no beam there, so no reflectance factor).
+    """
+    top = np.flatnonzero(options.positions.levels == 0.0)
+    if not (options.beam and options.views.wanted and top.size):
+        return
+    upward = out["radiance"].isel(level=int(top[0])).sel(direction="up")
+    beam = np.cos(np.radians(options.sun_zenith)) * options.sun_irradiance
+    if options.sun_list:
+        beam = beam.rename({SUN_DIM: "sun_zenith"})
+    else:
+        beam = beam.isel({SUN_DIM: 0}, drop=True)
+    beam = beam.drop_vars([name for name in beam.coords if name in upward.coords
+                           or name == "sun_zenith"])
+    reflectance = np.pi * upward / beam.where(beam > 0.0)
+    out["reflectance"] = reflectance.drop_vars(
+        ["level", "direction", "cumulative_optical_depth", "pressure", "altitude"],
+        errors="ignore")
+
+
 def _variables(units: OutputUnits) -> dict[str, tuple[str, str, str | None]]:
     """Name -> (long name, units, CF standard name or None) of every output variable.
 
@@ -123,6 +153,8 @@ def _variables(units: OutputUnits) -> dict[str, tuple[str, str, str | None]]:
                            "including the direct beam", radiance, None),
         "actinic_flux": ("actinic flux 4 pi J", flux, None),
         "radiance": ("radiance at the view angles", radiance, None),
+        "reflectance": ("bidirectional reflectance factor pi I / (mu0 S) of the upward "
+                        "radiance at the top (NaN where S = 0)", "1", None),
         "flux_divergence": ("radiative energy absorbed per layer: net downward flux at its "
                             "top minus at its bottom", flux, None),
         "heating_rate": ("radiative heating rate (g / c_p) (F_net,top - F_net,bottom) / "
@@ -158,7 +190,7 @@ def _describe(out: xr.Dataset, units: OutputUnits, settings: BlockSettings,
             out[name].attrs = {"long_name": long_name, "units": label}
             if standard:
                 out[name].attrs["standard_name"] = standard
-            if units.note and name != "fourier_terms":
+            if units.note and name not in ("fourier_terms", "reflectance"):
                 out[name].attrs["comment"] = units.note
     out["cumulative_optical_depth"].attrs = {
         "long_name": "optical depth from the top of the atmosphere (unscaled)", "units": "1"}

@@ -15,6 +15,7 @@ non-negative phase function never warns.
 
 from __future__ import annotations
 
+import functools
 import warnings
 
 import numpy as np
@@ -64,15 +65,23 @@ def warn_about_phase_functions(block: Block, settings: BlockSettings) -> None:
             "through lamina.phase.from_tabulated)", LaminaWarning, stacklevel=2)
 
 
+@functools.lru_cache(maxsize=8)
+def _weighted_table(terms: int) -> np.ndarray:
+    """(2l + 1) P_l at CHECK_ANGLES, (moment, angle): the same for every call (read-only)."""
+    degree = np.arange(terms)
+    table = phase.legendre_polynomials(np.cos(np.radians(CHECK_ANGLES)), terms)
+    weighted = (2.0 * degree + 1.0)[:, None] * table.T
+    weighted.flags.writeable = False
+    return weighted
+
+
 def _most_negative(moments: np.ndarray, scatters: np.ndarray) -> tuple[int, float, float] | None:
     """(layer, value, angle) of the most negative scattering layer's series, or None."""
     rows = moments[scatters]
     if rows.shape[0] == 0:
         return None
     unique, index = np.unique(rows, axis=0, return_index=True)
-    degree = np.arange(moments.shape[-1])
-    table = phase.legendre_polynomials(np.cos(np.radians(CHECK_ANGLES)), degree.size)
-    values = unique @ ((2.0 * degree + 1.0)[:, None] * table.T)
+    values = unique @ _weighted_table(moments.shape[-1])
     worst = np.unravel_index(np.argmin(values), values.shape)
     if values[worst] >= -NEGATIVE_TOLERANCE:
         return None

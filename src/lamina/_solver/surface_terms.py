@@ -31,6 +31,7 @@ from lamina._solver.common import (
     VIEW_DIM,
     Options,
     SurfaceArrays,
+    view_cosines,
 )
 from lamina.quadrature import double_gauss
 
@@ -57,6 +58,10 @@ def surface_arrays(surface: object, options: Options, thermal: bool) -> SurfaceA
     """The kernel's arrays of a bidirectional surface for this run, or None without one."""
     if surface is None:
         return None
+    if options.views.per_pixel and thermal:
+        raise ValueError("surface= with one view per pixel (view_zenith or view_azimuth as "
+                         "a DataArray) and thermal emission is not supported yet: give lists "
+                         "of view angles, or no wavenumber_band/wavenumber")
     zenith = options.sun_zenith
     # a curved planet's sun may stand at or below the ground's horizon (planet_radius): the
     # ground then gets no beam (the kernel weights these terms by max(mu0, 0) = 0), and the
@@ -101,7 +106,39 @@ def surface_arrays(surface: object, options: Options, thermal: bool) -> SurfaceA
         _emissivity(surface, mu, QUADRATURE_DIM, thermal),
         _emissivity(surface, view_mu, VIEW_DIM, thermal),
     )
+    if views.per_pixel:
+        fourier, beam_views, emissivity = _pixel_view_arrays(surface, options, mu, terms, mu0,
+                                                             thermal)
+        arrays = (arrays[0], arrays[1], fourier, beam_views, arrays[4], emissivity)
     return SurfaceArrays(arrays=arrays, description=repr(surface))
+
+
+def _pixel_view_arrays(surface, options: Options, mu: np.ndarray, terms: int,
+                       mu0: xr.DataArray, thermal: bool) -> tuple[xr.DataArray, ...]:
+    """The view arrays for one view per pixel: f_m(mu_u, mu_j), the exact beam BRDF and
+    the view emissivity of each pixel's own view (a view axis of length 1)."""
+    zenith, azimuth = options.pixel_views
+    view_mu = xr.apply_ufunc(view_cosines, zenith)
+    cos_phi = np.cos(np.radians(azimuth))
+
+    def view(values, cosines):
+        return surface._fourier_values(values, cosines[0][:, None], mu, terms)
+
+    def view_beam(values, cosines):
+        from lamina.surface._base import Geometry
+
+        expand = {k: v[:, None, None] for k, v in values.items()}
+        geometry = Geometry(*(cosine[:, None, None] for cosine in cosines))
+        return np.broadcast_to(surface._evaluate(expand, geometry), (cosines[0].size, 1, 1))
+
+    fourier = _over_parameters(surface, (view_mu,), view, (terms, 1, mu.size),
+                               SURFACE_CORE_DIMS[2])
+    beam = _over_parameters(surface, (mu0, view_mu, cos_phi), view_beam, (1, 1),
+                            SURFACE_CORE_DIMS[3][1:])
+    # thermal runs are refused in surface_arrays: directional_emissivity evaluates the
+    # angles as an outer axis, not pixel by pixel
+    emissivity = xr.DataArray(np.ones(1), dims=(VIEW_DIM,))
+    return fourier, beam, emissivity
 
 
 def _over_parameters(surface, cosine: xr.DataArray | None, compute: Callable,
@@ -109,7 +146,8 @@ def _over_parameters(surface, cosine: xr.DataArray | None, compute: Callable,
     """``compute(values, cosines)`` over the broadcast of the surface's parameters (and the
     beam cosines, if given), flattened and in blocks of bounded memory."""
     keys = list(surface._parameters)
-    others = [cosine] if cosine is not None else []
+    several = isinstance(cosine, tuple)   # then compute gets a tuple of flat cosines
+    others = list(cosine) if several else [cosine] if cosine is not None else []
     everything = xr.broadcast(*surface._parameters.values(), *others) if keys or others \
         else []
     template = everything[0] if everything else xr.DataArray(0.0)
@@ -119,7 +157,10 @@ def _over_parameters(surface, cosine: xr.DataArray | None, compute: Callable,
     pieces = []
     for start in range(0, count, step):
         values = {k: v[start:start + step] for k, v in zip(keys, flat, strict=False)}
-        cosines = flat[-1][start:start + step] if cosine is not None else None
+        if several:
+            cosines = tuple(c[start:start + step] for c in flat[len(flat) - len(others):])
+        else:
+            cosines = flat[-1][start:start + step] if cosine is not None else None
         piece = compute(values, cosines)
         pieces.append(np.broadcast_to(piece, (min(step, count - start), *trailing)))
     data = np.concatenate(pieces, axis=0).reshape(template.shape + trailing)
