@@ -1,0 +1,17 @@
+# cython: language_level=3
+# Layer solutions of one Fourier term of the vector problem (see vector_layers.pyx): called
+# once per term by vector_driver.
+
+from lamina._kernel._lapack_int cimport lapack_int
+from lamina._kernel.vector_common cimport VectorColumn, VectorLayers, VectorScratch, VectorSizes
+
+
+cdef int vector_homogeneous(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
+                            VectorColumn *cl, const double *mu, const double *wq,
+                            Py_ssize_t mode, Py_ssize_t *failed_layer,
+                            lapack_int *failed_info) noexcept nogil
+cdef void vector_beam_geometry(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
+                               VectorColumn *cl) noexcept nogil
+cdef int vector_particular(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
+                           VectorColumn *cl, const double *mu, Py_ssize_t mode,
+                           Py_ssize_t *failed_layer, lapack_int *failed_info) noexcept nogil
