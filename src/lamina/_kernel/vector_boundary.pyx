@@ -29,7 +29,7 @@ from lamina._kernel._lapack_int cimport lapack_int
 from lamina._kernel.common cimport PI
 from lamina._kernel.vector_common cimport (
     VSTATUS_BAND_FACTOR, VSTATUS_BAND_SOLVE, VectorColumn, VectorLayers, VectorScratch,
-    VectorSizes, mode_factors, mode_value, stokes_sign,
+    VectorSizes, basis_value, mode_factors,
 )
 
 
@@ -38,25 +38,11 @@ cdef inline void band_put(VectorScratch *sc, Py_ssize_t i, Py_ssize_t j,
     sc.ab[sc.kl + sc.kl + i - j + j * sc.ldab] = value
 
 
-cdef inline double basis_value(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc,
-                               Py_ssize_t layer, Py_ssize_t c, Py_ssize_t j,
-                               bint mirrored) noexcept nogil:
-    """Component c (0 .. 2 nn - 1, up then down) of mode j of a layer, or of its mirror.
-
-    The factors must be in ``sc.cs``, ``sc.cp`` (at depth t, for the modes C) and
-    ``sc.cs2``, ``sc.cp2`` (at tau - t, for the mirrored modes D).
-    """
-    cdef Py_ssize_t nn = sz.nn, p = ly.partner[layer * nn + j]
-    cdef const double *xp = ly.xp + layer * nn * nn
-    cdef const double *xm = ly.xm + layer * nn * nn
-    if not mirrored:
-        if c < nn:
-            return mode_value(xp, nn, c, j, p, sc.cs[j], sc.cp[j])
-        return mode_value(xm, nn, c - nn, j, p, sc.cs[j], sc.cp[j])
-    if c < nn:
-        return stokes_sign(c % sz.ns) * mode_value(xm, nn, c, j, p, sc.cs2[j], sc.cp2[j])
-    return stokes_sign((c - nn) % sz.ns) \
-        * mode_value(xp, nn, c - nn, j, p, sc.cs2[j], sc.cp2[j])
+cdef inline double column_value(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc,
+                                Py_ssize_t layer, Py_ssize_t c, Py_ssize_t j,
+                                bint second) noexcept nogil:
+    """``basis_value`` with the factors in ``sc.cs``, ``sc.cp``, ``sc.cs2``, ``sc.cp2``."""
+    return basis_value(sz, ly, layer, c, j, second, sc.cs, sc.cp, sc.cs2, sc.cp2)
 
 
 cdef void put_block(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc, Py_ssize_t layer,
@@ -64,15 +50,14 @@ cdef void put_block(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc, Py_ssi
                     Py_ssize_t count, double factor) noexcept nogil:
     """Rows row0 .. row0 + count - 1: components comp0 .. of a layer's modes at depth t."""
     cdef Py_ssize_t nn = sz.nn, j, a, col0 = 2 * nn * layer
-    mode_factors(sz, ly, layer, t, sc.cs, sc.cp)
-    mode_factors(sz, ly, layer, tau - t, sc.cs2, sc.cp2)
+    mode_factors(sz, ly, layer, t, tau, sc.cs, sc.cp, sc.cs2, sc.cp2)
     for j in range(nn):
         for a in range(count):
             band_put(sc, row0 + a, col0 + j,
-                     factor * basis_value(sz, ly, sc, layer, comp0 + a, j, False))
+                     factor * column_value(sz, ly, sc, layer, comp0 + a, j, False))
         for a in range(count):
             band_put(sc, row0 + a, col0 + nn + j,
-                     factor * basis_value(sz, ly, sc, layer, comp0 + a, j, True))
+                     factor * column_value(sz, ly, sc, layer, comp0 + a, j, True))
 
 
 cdef void bottom_block(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc,
@@ -81,19 +66,18 @@ cdef void bottom_block(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc,
     cdef Py_ssize_t nn = sz.nn, ns = sz.ns, n = sz.n, layer = sz.nlayer - 1
     cdef Py_ssize_t row0 = 2 * nn * sz.nlayer - nn, col0 = 2 * nn * layer, j, a, i, half
     cdef double tau = cl.tau[layer], reflected, value
-    cdef bint mirrored
-    mode_factors(sz, ly, layer, tau, sc.cs, sc.cp)
-    mode_factors(sz, ly, layer, 0.0, sc.cs2, sc.cp2)
+    cdef bint second
+    mode_factors(sz, ly, layer, tau, tau, sc.cs, sc.cp, sc.cs2, sc.cp2)
     for half in range(2):
-        mirrored = half == 1
+        second = half == 1
         for j in range(nn):
             reflected = 0.0
             if reflects:
                 for i in range(n):
                     reflected = reflected + sc.refl[i] \
-                        * basis_value(sz, ly, sc, layer, nn + i * ns, j, mirrored)
+                        * column_value(sz, ly, sc, layer, nn + i * ns, j, second)
             for a in range(nn):
-                value = basis_value(sz, ly, sc, layer, a, j, mirrored)
+                value = column_value(sz, ly, sc, layer, a, j, second)
                 if a % ns == 0:
                     value = value - reflected
                 band_put(sc, row0 + a, col0 + half * nn + j, value)
@@ -186,8 +170,7 @@ cdef void vector_levels(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
     for level in range(sz.nlayer + 1):
         layer = level if level < sz.nlayer else sz.nlayer - 1
         t = 0.0 if level < sz.nlayer else cl.tau[layer]
-        mode_factors(sz, ly, layer, t, sc.cs, sc.cp)
-        mode_factors(sz, ly, layer, cl.tau[layer] - t, sc.cs2, sc.cp2)
+        mode_factors(sz, ly, layer, t, cl.tau[layer], sc.cs, sc.cp, sc.cs2, sc.cp2)
         for s in range(nsun):
             out = sc.field + (s * (sz.nlayer + 1) + level) * n2
             coef = ly.coef + s * neq + 2 * nn * layer
@@ -196,6 +179,6 @@ cdef void vector_levels(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
             for c in range(n2):
                 value = z[c] * beam
                 for j in range(nn):
-                    value = value + coef[j] * basis_value(sz, ly, sc, layer, c, j, False) \
-                        + coef[nn + j] * basis_value(sz, ly, sc, layer, c, j, True)
+                    value = value + coef[j] * column_value(sz, ly, sc, layer, c, j, False) \
+                        + coef[nn + j] * column_value(sz, ly, sc, layer, c, j, True)
                 out[c] = value

@@ -5,17 +5,28 @@
 # ``cdef inline`` helpers only, so nothing here needs a compiled module of its own.
 #
 # Layout: a Fourier term's Stokes vectors at the quadrature cosines of one hemisphere are
-# ``nn = n * ns`` numbers, index r = i * ns + s (cosine i, Stokes component s). A layer's
-# solution is sum_j C_j F_j(t) + sum_j D_j F'_j(tau - t) + z exp(-t / mu0), t the depth
-# below the layer top: F_j are the modes that decay downward (upward part ``xp``, downward
-# part ``xm``, column j), F'_j their mirror images D (xm, xp) that decay upward from the
-# layer bottom (D = diag(1, 1, -1, -1) on each Stokes vector). A real eigenvalue gives
-# F_j(t) = x_j exp(-k_j t); a complex pair k = kr + i ki (ki > 0) keeps Re x in column j
-# and Im x in column j + 1 = partner[j] (partner[j + 1] = j), and the two real solutions
+# ``nn = n * ns`` numbers, index r = i * ns + s (cosine i, Stokes component s). Each mode j
+# of a layer is kept as its sum and difference vectors S_j = X+ + D X-, Dif_j = X+ - D X-
+# (D = diag(1, 1, -1, -1) on each Stokes vector): the mode decaying downward is
+# F_j(t) = ((S + Dif) / 2, D (S - Dif) / 2) exp(-k t) (t the depth below the layer top),
+# its mirror image F'_j = ((S - Dif) / 2, D (S + Dif) / 2) exp(-k (tau - t)) decays upward
+# from the layer bottom.
+#
+# A real eigenvalue: the unknowns of the boundary-value problem are the coefficients of
+# F_j + F'_j and F_j - F'_j (not of F_j and F'_j), built from S and Dif with
+# (e + e') / 2 and (e - e') / 2, e = exp(-k t), e' = exp(-k (tau - t)), the latter through
+# expm1. For the slow diffusion mode of a nearly conservative term 0 (k ~ 1e-6) F_j and F'_j
+# differ by O(k) and their coefficients would be O(1 / k) and cancel, losing eps / k of the
+# field (1e-2 relative in a layer of optical thickness 1e-8); in this basis no coefficient
+# is large and nothing cancels.
+#
+# A complex pair k = kr + i ki (ki > 0) keeps Re S, Re Dif in column j and Im S, Im Dif in
+# column j + 1 = partner[j] (partner[j + 1] = j), and the two real solutions
 # Re(x exp(-k t)) = exp(-kr t) (Re x cos(ki t) + Im x sin(ki t)) and Im(x exp(-k t)) =
-# exp(-kr t) (Im x cos(ki t) - Re x sin(ki t)) (Siewert 2000): every exponential is <= 1.
+# exp(-kr t) (Im x cos(ki t) - Re x sin(ki t)) (Siewert 2000), for F_j and F'_j separately:
+# every exponential is <= 1.
 
-from libc.math cimport cos, exp, sin
+from libc.math cimport cos, exp, expm1, sin
 
 from lamina._kernel._lapack_int cimport lapack_int
 
@@ -54,8 +65,8 @@ cdef struct VectorLayers:
     double *kr         # [layer][nn] real part of each mode's eigenvalue k
     double *ki         # [layer][nn] imaginary part (0 for a real eigenvalue)
     Py_ssize_t *partner    # [layer][nn] the other column of a complex pair (j if real)
-    double *xp         # [layer][nn x nn] upward part of each mode, column j
-    double *xm         # [layer][nn x nn] downward part
+    double *ss         # [layer][nn x nn] sum vector S of each mode, column j
+    double *dd         # [layer][nn x nn] difference vector Dif
     double *wpp        # [layer][nn x nn] (w/2) w_j Z^m(mu_i, mu_j), 4 x 4 blocks
     double *wpm        # [layer][nn x nn] (w/2) w_j Z^m(mu_i, -mu_j)
     double *zp         # [layer][sun][2 nn] beam particular solution at the layer top
@@ -103,26 +114,63 @@ cdef inline double stokes_sign(Py_ssize_t s) noexcept nogil:
 
 
 cdef inline void mode_factors(VectorSizes *sz, VectorLayers *ly, Py_ssize_t layer, double t,
-                              double *cs, double *cp) noexcept nogil:
-    """Factors of column j and of its partner in F_j(t) (vector_common's header)."""
+                              double tau, double *cs, double *cp, double *cs2,
+                              double *cp2) noexcept nogil:
+    """Factors of the modes at depth t of a layer of thickness tau (see the header).
+
+    Real mode j: cs = (e + e') / 2, cp = (e - e') / 2. Complex: (cs, cp) the factors of
+    column j and of its partner in F_j(t), (cs2, cp2) the same in F'_j (at tau - t).
+    """
     cdef Py_ssize_t nn = sz.nn, j
     cdef const double *kr = ly.kr + layer * nn
     cdef const double *ki = ly.ki + layer * nn
     cdef const Py_ssize_t *partner = ly.partner + layer * nn
-    cdef double e
+    cdef double e, e2, half_gap
     for j in range(nn):
         e = exp(-kr[j] * t)
+        e2 = exp(-kr[j] * (tau - t))
         if ki[j] == 0.0:
-            cs[j] = e
-            cp[j] = 0.0
+            # e - e2 without cancellation
+            if t <= tau - t:
+                half_gap = -0.5 * e * expm1(-kr[j] * (tau - 2.0 * t))
+            else:
+                half_gap = 0.5 * e2 * expm1(-kr[j] * (2.0 * t - tau))
+            cs[j] = 0.5 * (e + e2)
+            cp[j] = half_gap
+            cs2[j] = 0.0
+            cp2[j] = 0.0
         else:
             cs[j] = e * cos(ki[j] * t)
             cp[j] = e * sin(ki[j] * t)
+            cs2[j] = e2 * cos(ki[j] * (tau - t))
+            cp2[j] = e2 * sin(ki[j] * (tau - t))
             if partner[j] < j:
                 cp[j] = -cp[j]
+                cp2[j] = -cp2[j]
 
 
-cdef inline double mode_value(const double *x, Py_ssize_t nn, Py_ssize_t r, Py_ssize_t j,
-                              Py_ssize_t p, double cs, double cp) noexcept nogil:
-    """Component r of column j's mode: cs x[r, j] + cp x[r, p] (p its partner)."""
-    return cs * x[r + j * nn] + cp * x[r + p * nn]
+cdef inline double basis_value(VectorSizes *sz, VectorLayers *ly, Py_ssize_t layer,
+                               Py_ssize_t c, Py_ssize_t j, bint second, const double *cs,
+                               const double *cp, const double *cs2,
+                               const double *cp2) noexcept nogil:
+    """Component c (0 .. 2 nn - 1, up then down) of unknown j's (``second``: nn + j's) column.
+
+    Real mode: F_j + F'_j, or F_j - F'_j when ``second``; complex: F_j, or F'_j. The
+    factors come from ``mode_factors`` at the same depth.
+    """
+    cdef Py_ssize_t nn = sz.nn, p = ly.partner[layer * nn + j], r = c if c < nn else c - nn
+    cdef const double *ss = ly.ss + layer * nn * nn
+    cdef const double *dd = ly.dd + layer * nn * nn
+    cdef double sign = stokes_sign(r % sz.ns), s_j = ss[r + j * nn], d_j = dd[r + j * nn]
+    cdef double plus, minus
+    if ly.ki[layer * nn + j] == 0.0:
+        if not second:
+            return s_j * cs[j] + d_j * cp[j] if c < nn else sign * (s_j * cs[j] - d_j * cp[j])
+        return s_j * cp[j] + d_j * cs[j] if c < nn else sign * (s_j * cp[j] - d_j * cs[j])
+    if not second:
+        plus = (s_j + d_j) * cs[j] + (ss[r + p * nn] + dd[r + p * nn]) * cp[j]
+        minus = (s_j - d_j) * cs[j] + (ss[r + p * nn] - dd[r + p * nn]) * cp[j]
+        return 0.5 * plus if c < nn else 0.5 * sign * minus
+    minus = (s_j - d_j) * cs2[j] + (ss[r + p * nn] - dd[r + p * nn]) * cp2[j]
+    plus = (s_j + d_j) * cs2[j] + (ss[r + p * nn] + dd[r + p * nn]) * cp2[j]
+    return 0.5 * minus if c < nn else 0.5 * sign * plus

@@ -63,7 +63,7 @@ cdef tuple allocate(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc):
     sc.kl = <lapack_int>(3 * nn - 1)
     sc.ldab = <lapack_int>(3 * sc.kl + 1)
     sizes = {
-        "kr": nlay * nn, "ki": nlay * nn, "xp": nlay * nn * nn, "xm": nlay * nn * nn,
+        "kr": nlay * nn, "ki": nlay * nn, "ss": nlay * nn * nn, "dd": nlay * nn * nn,
         "wpp": nlay * nn * nn, "wpm": nlay * nn * nn, "zp": nlay * nsun * 2 * nn,
         "ttop": nlay * nsun, "eb": nlay * nsun, "coef": nsun * neq,
         "pp": nn * nk, "pm": nn * nk, "p0": nk, "bt": nk * nn, "btm": nk * nn, "bq": nk,
@@ -81,8 +81,8 @@ cdef tuple allocate(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc):
         at[name] = <size_t>&view[0]
     ly.kr = <double *><size_t>at["kr"]
     ly.ki = <double *><size_t>at["ki"]
-    ly.xp = <double *><size_t>at["xp"]
-    ly.xm = <double *><size_t>at["xm"]
+    ly.ss = <double *><size_t>at["ss"]
+    ly.dd = <double *><size_t>at["dd"]
     ly.wpp = <double *><size_t>at["wpp"]
     ly.wpm = <double *><size_t>at["wpm"]
     ly.zp = <double *><size_t>at["zp"]

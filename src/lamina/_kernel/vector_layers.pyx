@@ -208,8 +208,8 @@ cdef int layer_modes(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly, Py_ss
     cdef double one = 1.0, zero = 0.0, f, f2, lam, kr, ki, big, sr, si, xr, xi, dr, di
     cdef double *wpp = ly.wpp + layer * nn * nn
     cdef double *wpm = ly.wpm + layer * nn * nn
-    cdef double *xp = ly.xp + layer * nn * nn
-    cdef double *xm = ly.xm + layer * nn * nn
+    cdef double *ss = ly.ss + layer * nn * nn
+    cdef double *dd = ly.dd + layer * nn * nn
     cdef double *krv = ly.kr + layer * nn
     cdef double *kiv = ly.ki + layer * nn
     cdef Py_ssize_t *partner = ly.partner + layer * nn
@@ -262,8 +262,8 @@ cdef int layer_modes(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly, Py_ss
             for r in range(nn):
                 sr = sc.vr[r + j * nn]
                 dr = -kr * sc.xs[r + j * nn]
-                xp[r + j * nn] = 0.5 * (sr + dr)
-                xm[r + j * nn] = 0.5 * stokes_sign(r % ns) * (sr - dr)
+                ss[r + j * nn] = sr
+                dd[r + j * nn] = dr
             j = j + 1
             continue
         # a complex pair: principal square root of wr + i wi (wi > 0 comes first)
@@ -286,10 +286,10 @@ cdef int layer_modes(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly, Py_ss
             xi = sc.xs[r + (j + 1) * nn]
             dr = -(kr * xr - ki * xi)
             di = -(kr * xi + ki * xr)
-            xp[r + j * nn] = 0.5 * (sr + dr)
-            xp[r + (j + 1) * nn] = 0.5 * (si + di)
-            xm[r + j * nn] = 0.5 * stokes_sign(r % ns) * (sr - dr)
-            xm[r + (j + 1) * nn] = 0.5 * stokes_sign(r % ns) * (si - di)
+            ss[r + j * nn] = sr
+            ss[r + (j + 1) * nn] = si
+            dd[r + j * nn] = dr
+            dd[r + (j + 1) * nn] = di
         j = j + 2
     # normalise each mode (a pair by one common factor)
     j = 0
@@ -297,12 +297,12 @@ cdef int layer_modes(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly, Py_ss
         big = 0.0
         for i in range(j, partner[j] + 1 if partner[j] > j else j + 1):
             for r in range(nn):
-                big = max(big, max(fabs(xp[r + i * nn]), fabs(xm[r + i * nn])))
+                big = max(big, max(fabs(ss[r + i * nn]), fabs(dd[r + i * nn])))
         if big > 0.0:
             for i in range(j, partner[j] + 1 if partner[j] > j else j + 1):
                 for r in range(nn):
-                    xp[r + i * nn] /= big
-                    xm[r + i * nn] /= big
+                    ss[r + i * nn] /= big
+                    dd[r + i * nn] /= big
         j = partner[j] + 1 if partner[j] > j else j + 1
     return 0
 
