@@ -8,8 +8,9 @@ built against.
 
 The kernel is the package ``lamina._kernel``: one extension per stage module (``layers``,
 ``boundary``, ``sources``, ``driver``, and the vector kernel's ``vector_layers``,
-``vector_boundary``, ``vector_driver``); ``common.pxd`` and ``vector_common.pxd`` are
-declarations and inline helpers only and need no extension of their own.
+``vector_boundary``, ``vector_sources``, ``vector_driver``); ``common.pxd`` and
+``vector_common.pxd`` are declarations and inline helpers only and need no extension of
+their own.
 """
 
 from pathlib import Path
@@ -24,7 +25,7 @@ SOURCES = HERE / "src"
 KERNEL = SOURCES / "lamina" / "_kernel"
 STAGES = ("layers", "boundary", "sources", "driver")
 # the Stokes-vector kernel (issue 13): its own stages, sharing only common.pxd's constants
-VECTOR_STAGES = ("vector_layers", "vector_boundary", "vector_driver")
+VECTOR_STAGES = ("vector_layers", "vector_boundary", "vector_sources", "vector_driver")
 
 
 def write_lapack_int_pxd() -> None:

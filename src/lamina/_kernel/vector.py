@@ -3,8 +3,9 @@
 :func:`vector_quadrature_radiance` checks its inputs, calls
 ``vector_driver.solve_vector_columns`` (Siewert 1981, 2000; de Haan, Bosma and Hovenier
 1987; see ``vector_layers.pyx``) for one column and returns the Stokes vectors of every level
-at lamina's double-Gauss cosines and the requested azimuths. It is the kernel's own
-interface, without delta-M scaling, view cosines or xarray (``lamina.solve`` does not call
+at lamina's double-Gauss cosines (and, by integrating the source function, at any view
+cosines) and the requested azimuths. It is the kernel's own
+interface, without delta-M scaling or xarray (``lamina.solve`` does not call
 it yet: DEVELOPERS.md, "Polarization").
 """
 
@@ -48,6 +49,9 @@ class VectorRadiance(NamedTuple):
     """(sun, level): diffuse downward I flux."""
     flux_direct: np.ndarray
     """(sun, level): the direct beam's flux mu0 S exp(-tau / mu0)."""
+    view_radiance: np.ndarray
+    """(sun, level, direction, view cosine, azimuth, stokes) at the ``view_cosine`` given
+    (source-function integration; empty along the view cosine when none is given)."""
 
 
 def _real(name: str, value: ArrayLike, ndim: int) -> np.ndarray:
@@ -96,6 +100,7 @@ def vector_quadrature_radiance(
     *,
     stokes: int = 4,
     sun_irradiance: float = 1.0,
+    view_cosine: ArrayLike = (),
 ) -> VectorRadiance:
     """Stokes vectors of a stack of layers over a Lambertian surface, at quadrature cosines.
 
@@ -119,6 +124,9 @@ def vector_quadrature_radiance(
         Components solved: I alone, I Q U, or I Q U V.
     sun_irradiance : float, optional
         Beam irradiance normal to the beam.
+    view_cosine : array_like, optional
+        1-D cosines in (0, 1] of extra view directions (each up and down), where the
+        source function is integrated (``view_radiance``).
 
     Returns
     -------
@@ -136,6 +144,9 @@ def vector_quadrature_radiance(
     moments = _real("scattering_matrix_moments", scattering_matrix_moments, 3)
     mu0 = np.atleast_1d(_real("sun_cosine", np.ravel(sun_cosine), 1))
     phi = _real("view_azimuth", np.atleast_1d(view_azimuth), 1)
+    views = _real("view_cosine", np.atleast_1d(np.asarray(view_cosine, dtype=float)), 1)
+    if np.any((views <= 0.0) | (views > 1.0)):
+        raise ValueError("view_cosine must be in (0, 1]")
     surface = float(surface_albedo)
     _check_inputs(tau, albedo, moments, mu0, surface, streams, stokes)
     nl = int(streams)
@@ -146,13 +157,14 @@ def vector_quadrature_radiance(
     mu, wq = 0.5 * (nodes + 1.0), 0.5 * weights
     nsun, nlev, n = mu0.size, tau.size + 1, nl // 2
     radiance = np.zeros((1, nsun, nlev, 2, n, phi.size, stokes))
+    view_radiance = np.zeros((1, nsun, nlev, 2, views.size, phi.size, stokes))
     flux_up = np.zeros((1, nsun, nlev))
     flux_down = np.zeros((1, nsun, nlev))
     status = np.zeros((1, 4), dtype=np.int64)
     irradiance = np.full((1, nsun), float(sun_irradiance))
     solve_vector_columns(tau[None], albedo[None], used[None], mu0[None].copy(), irradiance,
-                         np.array([surface]), mu, wq, np.deg2rad(phi), stokes, radiance,
-                         flux_up, flux_down, status)
+                         np.array([surface]), mu, wq, np.deg2rad(phi), views, stokes,
+                         radiance, view_radiance, flux_up, flux_down, status)
     code, layer, term, info = (int(v) for v in status[0])
     if code:
         raise RuntimeError(
@@ -160,4 +172,5 @@ def vector_quadrature_radiance(
             f"{info}): {VECTOR_STATUS_NAMES.get(code, 'unknown failure')}")
     depth = np.concatenate([[0.0], np.cumsum(tau)])
     direct = float(sun_irradiance) * mu0[:, None] * np.exp(-depth[None, :] / mu0[:, None])
-    return VectorRadiance(mu, wq, radiance[0], flux_up[0], flux_down[0], direct)
+    return VectorRadiance(mu, wq, radiance[0], flux_up[0], flux_down[0], direct,
+                          view_radiance[0])

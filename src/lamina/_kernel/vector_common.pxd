@@ -50,6 +50,7 @@ cdef struct VectorSizes:
     Py_ssize_t nk         # nl * ns: columns of a generalized-spherical-function table
     Py_ssize_t nlayer
     Py_ssize_t nsun
+    Py_ssize_t nvz        # view cosines (0: quadrature cosines only)
 
 
 cdef struct VectorColumn:
@@ -100,6 +101,20 @@ cdef struct VectorScratch:
     double *refl      # [n] Lambertian reflection weights 2 A w_j mu_j (term 0)
     double *mu0e      # [sun] the sun cosines used by this term (resonance shift)
     double *field     # [sun][layer + 1][2 nn] the term's Stokes vectors at the levels
+    # view cosines (vector_sources)
+    const double *umu  # [nvz]
+    double *pvu       # [nvz ns x nk] Pi at +mu_u
+    double *pvd       # [nvz ns x nk] Pi at -mu_u
+    double *zv        # [nvz ns x nn] Z^m between view and quadrature cosines (scratch)
+    double *hup       # [nvz ns x 2 nn] (w/2) w_j (Z^m(mu_u, mu_j) | Z^m(mu_u, -mu_j))
+    double *hdn       # [nvz ns x 2 nn] the same for the downward view -mu_u
+    double *fmat      # [2 nn x nn] the modes' vectors F_j at exponent 0, column j
+    double *fmir      # [2 nn x nn] their mirror images F'_j
+    double *hf        # [4][nvz ns x nn] hup fmat, hup fmir, hdn fmat, hdn fmir
+    double *hz        # [2][nvz ns] the beam's source at the view cosines, up and down
+    double *srcu      # [layer][sun][nvz ns] a layer's source integrated to its top
+    double *srcd      # [layer][sun][nvz ns] integrated to its bottom
+    double *vfield    # [sun][level][2][nvz ns] the term's Stokes vectors at the views
     double *work
     lapack_int lwork
     lapack_int *ipiv  # [max(2 nn, 2 nn layer)]

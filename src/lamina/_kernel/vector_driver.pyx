@@ -33,6 +33,7 @@ from lamina._kernel.vector_common cimport (
 from lamina._kernel.vector_layers cimport (
     vector_beam_geometry, vector_homogeneous, vector_particular,
 )
+from lamina._kernel.vector_sources cimport vector_view_radiances
 
 import numpy as np
 
@@ -51,7 +52,7 @@ VECTOR_STATUS_NAMES = {
 cdef tuple allocate(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc):
     """Workspace arrays (kept alive by the returned tuple) and the pointers into them."""
     cdef Py_ssize_t nn = sz.nn, nk = sz.nk, nlay = sz.nlayer, nsun = sz.nsun
-    cdef Py_ssize_t neq = 2 * nn * nlay
+    cdef Py_ssize_t neq = 2 * nn * nlay, rows = sz.nvz * sz.ns
     cdef lapack_int ni = <lapack_int>nn, info = 0, query = -1, one_i = 1
     cdef double work_size = 0.0
     cdef double[::1] probe = np.eye(nn).ravel()
@@ -72,6 +73,10 @@ cdef tuple allocate(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc):
         "rhs": max(2 * nn, sz.n), "cs": nn, "cp": nn, "cs2": nn, "cp2": nn, "refl": sz.n,
         "mu0e": nsun, "field": nsun * (nlay + 1) * 2 * nn, "work": sc.lwork,
         "ab": sc.ldab * neq,
+        "pvu": rows * nk, "pvd": rows * nk, "zv": max(rows * nn, sz.nvz), "hup": rows * 2 * nn,
+        "hdn": rows * 2 * nn, "fmat": 2 * nn * nn, "fmir": 2 * nn * nn, "hf": 4 * rows * nn,
+        "hz": 2 * rows, "srcu": nlay * nsun * rows, "srcd": nlay * nsun * rows,
+        "vfield": nsun * (nlay + 1) * 2 * rows,
     }
     arrays = {name: np.zeros(max(size, 1)) for name, size in sizes.items()}
     cdef dict at = {}
@@ -115,6 +120,18 @@ cdef tuple allocate(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc):
     sc.field = <double *><size_t>at["field"]
     sc.work = <double *><size_t>at["work"]
     sc.ab = <double *><size_t>at["ab"]
+    sc.pvu = <double *><size_t>at["pvu"]
+    sc.pvd = <double *><size_t>at["pvd"]
+    sc.zv = <double *><size_t>at["zv"]
+    sc.hup = <double *><size_t>at["hup"]
+    sc.hdn = <double *><size_t>at["hdn"]
+    sc.fmat = <double *><size_t>at["fmat"]
+    sc.fmir = <double *><size_t>at["fmir"]
+    sc.hf = <double *><size_t>at["hf"]
+    sc.hz = <double *><size_t>at["hz"]
+    sc.srcu = <double *><size_t>at["srcu"]
+    sc.srcd = <double *><size_t>at["srcd"]
+    sc.vfield = <double *><size_t>at["vfield"]
     partner = np.zeros(max(nlay * nn, 1), dtype=np.intp)
     cdef Py_ssize_t[::1] partner_view = partner
     ly.partner = &partner_view[0]
@@ -141,7 +158,7 @@ cdef void add_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode, const do
     """Add term ``mode`` at the azimuths: radiance [sun][level][2][n][va][ns]."""
     cdef Py_ssize_t nn = sz.nn, ns = sz.ns, n = sz.n, nlev = sz.nlayer + 1
     cdef Py_ssize_t s, level, d, i, a, c
-    cdef double cm, sm, up, down
+    cdef double cm, sm
     cdef const double *f
     cdef double *out
     for a in range(nva):
@@ -157,6 +174,37 @@ cdef void add_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode, const do
                             out[c] = out[c] + f[d * nn + i * ns + c] * (cm if c < 2 else sm)
     if mode != 0:
         return
+    add_fluxes(sz, sc, mu, wq, flux_up, flux_down)
+
+
+cdef void add_view_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode,
+                        const double *phi, Py_ssize_t nva, double *radiance) noexcept nogil:
+    """Add term ``mode`` at the view cosines: radiance [sun][level][2][vz][va][ns]."""
+    cdef Py_ssize_t ns = sz.ns, rows = sz.nvz * sz.ns, nlev = sz.nlayer + 1
+    cdef Py_ssize_t s, level, d, u, a, c
+    cdef double cm, sm
+    cdef const double *f
+    cdef double *out
+    for a in range(nva):
+        cm = cos(mode * phi[a])
+        sm = sin(mode * phi[a])
+        for s in range(sz.nsun):
+            for level in range(nlev):
+                for d in range(2):
+                    f = sc.vfield + ((s * nlev + level) * 2 + d) * rows
+                    for u in range(sz.nvz):
+                        out = radiance \
+                            + ((((s * nlev + level) * 2 + d) * sz.nvz + u) * nva + a) * ns
+                        for c in range(ns):
+                            out[c] = out[c] + f[u * ns + c] * (cm if c < 2 else sm)
+
+
+cdef void add_fluxes(VectorSizes *sz, VectorScratch *sc, const double *mu, const double *wq,
+                     double *flux_up, double *flux_down) noexcept nogil:
+    """The I fluxes of term 0 at every level."""
+    cdef Py_ssize_t nn = sz.nn, ns = sz.ns, n = sz.n, nlev = sz.nlayer + 1, s, level, i
+    cdef double up, down
+    cdef const double *f
     for s in range(sz.nsun):
         for level in range(nlev):
             f = sc.field + (s * nlev + level) * 2 * nn
@@ -172,7 +220,7 @@ cdef void add_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode, const do
 cdef int solve_vector_column(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
                              VectorColumn *cl, const double *mu, const double *wq,
                              const double *phi, Py_ssize_t nva, double *radiance,
-                             double *flux_up, double *flux_down,
+                             double *view_radiance, double *flux_up, double *flux_down,
                              long long *status) noexcept nogil:
     """All Fourier terms of one column; 0, or a status code (with layer, term, info)."""
     cdef Py_ssize_t mode, top = last_term(sz, cl), layer = -1
@@ -194,6 +242,9 @@ cdef int solve_vector_column(VectorSizes *sz, VectorScratch *sc, VectorLayers *l
             return code
         vector_levels(sz, sc, ly, cl)
         add_term(sz, sc, mode, mu, wq, phi, nva, radiance, flux_up, flux_down)
+        if sz.nvz > 0:
+            vector_view_radiances(sz, sc, ly, cl, mode, mu, wq)
+            add_view_term(sz, sc, mode, phi, nva, view_radiance)
     return 0
 
 
@@ -207,8 +258,10 @@ def solve_vector_columns(
     const double[::1] quadrature_cosines,
     const double[::1] quadrature_weights,
     const double[::1] view_azimuth_radians,
+    const double[::1] view_cosines,
     Py_ssize_t stokes,
     double[:, :, :, :, :, :, ::1] radiance,
+    double[:, :, :, :, :, :, ::1] view_radiance,
     double[:, :, ::1] flux_up,
     double[:, :, ::1] flux_down,
     long long[:, ::1] status,
@@ -224,7 +277,8 @@ def solve_vector_columns(
     cdef VectorLayers ly
     cdef VectorScratch sc
     cdef VectorColumn cl
-    cdef Py_ssize_t ncol = optical_thickness.shape[0], col, i, total, nva
+    cdef Py_ssize_t ncol = optical_thickness.shape[0], col, i, total, nva, total_view
+    cdef double *view_out = NULL
     sz.n = quadrature_cosines.shape[0]
     sz.ns = stokes
     sz.nn = sz.n * stokes
@@ -233,6 +287,8 @@ def solve_vector_columns(
     sz.nlayer = optical_thickness.shape[1]
     sz.nsun = sun_cosine.shape[1]
     nva = view_azimuth_radians.shape[0]
+    sz.nvz = view_cosines.shape[0]
+    sc.umu = &view_cosines[0] if sz.nvz > 0 else NULL
     if (stokes not in (1, 3, 4) or sz.nlayer < 1 or sz.n < 1 or nva < 1
             or single_scattering_albedo.shape[0] != ncol
             or single_scattering_albedo.shape[1] != sz.nlayer
@@ -249,6 +305,7 @@ def solve_vector_columns(
         raise ValueError("solve_vector_columns: arrays disagree in shape")
     workspace = allocate(&sz, &ly, &sc)
     total = sz.nsun * (sz.nlayer + 1) * 2 * sz.n * nva * stokes
+    total_view = sz.nsun * (sz.nlayer + 1) * 2 * sz.nvz * nva * stokes
     with nogil:
         for col in range(ncol):
             for i in range(4):
@@ -261,13 +318,19 @@ def solve_vector_columns(
             cl.surface_albedo = surface_albedo[col]
             for i in range(total):
                 (&radiance[col, 0, 0, 0, 0, 0, 0])[i] = 0.0
+            if sz.nvz > 0:
+                view_out = &view_radiance[col, 0, 0, 0, 0, 0, 0]
+                for i in range(total_view):
+                    view_out[i] = 0.0
             if solve_vector_column(&sz, &sc, &ly, &cl, &quadrature_cosines[0],
                                    &quadrature_weights[0], &view_azimuth_radians[0], nva,
-                                   &radiance[col, 0, 0, 0, 0, 0, 0], &flux_up[col, 0, 0],
-                                   &flux_down[col, 0, 0], &status[col, 0]) != 0:
+                                   &radiance[col, 0, 0, 0, 0, 0, 0], view_out,
+                                   &flux_up[col, 0, 0], &flux_down[col, 0, 0],
+                                   &status[col, 0]) != 0:
                 continue
-            for i in range(total):
-                if not isfinite((&radiance[col, 0, 0, 0, 0, 0, 0])[i]):
+            for i in range(total + total_view):
+                if not isfinite((&radiance[col, 0, 0, 0, 0, 0, 0])[i] if i < total
+                                else view_out[i - total]):
                     status[col, 0] = VSTATUS_NOT_FINITE
                     status[col, 1] = -1
                     status[col, 2] = -1

@@ -353,6 +353,26 @@ cdef void vector_beam_geometry(VectorSizes *sz, VectorScratch *sc, VectorLayers 
             sumtau = sumtau + cl.tau[layer]
 
 
+cdef double beam_coefficients(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
+                              VectorColumn *cl, Py_ssize_t layer, Py_ssize_t sun,
+                              Py_ssize_t mode) noexcept nogil:
+    """B Pi(-mu0) e1 of a layer into ``sc.bq``; returns the beam's amplitude in the layer.
+
+    The amplitude is w S (2 - delta_m0) / (4 pi) T_top, so that the source at the points of a
+    table Pi is amplitude * Pi bq (0 where the layer does not scatter or the beam is gone).
+    """
+    cdef Py_ssize_t ns = sz.ns, nl = sz.nl, l, t
+    cdef double w = min(cl.albedo[layer], 1.0 - C_CONSERVATIVE_GAP)
+    cdef const double *moments = cl.moments + layer * nl * 6
+    wigner_d(mode, 0, nl, -sc.mu0e[sun], sc.dtab)
+    for l in range(nl):
+        for t in range(ns):
+            sc.bq[l * ns + t] = expansion_entry(moments, l, t, 0) * sc.dtab[l] \
+                if l >= mode else 0.0
+    return w * cl.irradiance[sun] * (1.0 if mode == 0 else 2.0) / (4.0 * PI) \
+        * ly.ttop[layer * sz.nsun + sun]
+
+
 cdef int vector_particular(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
                            VectorColumn *cl, const double *mu, Py_ssize_t mode,
                            Py_ssize_t *failed_layer, lapack_int *failed_info) noexcept nogil:
@@ -361,33 +381,24 @@ cdef int vector_particular(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
     z solves [[A + M / mu0, -B], [-D B D, D A D - M / mu0]] z = (q+, q-), the source
     q = (w S (2 - delta_m0) / 4 pi) T_top Z^m(+-mu_i, -mu0) e1 (module docstring).
     """
-    cdef Py_ssize_t nn = sz.nn, ns = sz.ns, nl = sz.nl, s, layer, l, t, i, j
+    cdef Py_ssize_t nn = sz.nn, ns = sz.ns, s, layer, i, j
     cdef Py_ssize_t n2 = 2 * nn
     cdef lapack_int ni = <lapack_int>nn, nk = <lapack_int>sz.nk, n2i = <lapack_int>n2
     cdef lapack_int one_i = 1, info = 0
-    cdef double zero = 0.0, w, amplitude, inv0, sign
+    cdef double zero = 0.0, amplitude, inv0, sign
     cdef double *wpp
     cdef double *wpm
     cdef double *zp
-    cdef const double *moments
     cdef char trans_n = b'N'
     for s in range(sz.nsun):
-        wigner_d(mode, 0, nl, -sc.mu0e[s], sc.dtab)
         inv0 = 1.0 / sc.mu0e[s]
         for layer in range(sz.nlayer):
             zp = ly.zp + (layer * sz.nsun + s) * n2
-            w = min(cl.albedo[layer], 1.0 - C_CONSERVATIVE_GAP)
-            amplitude = w * cl.irradiance[s] * (1.0 if mode == 0 else 2.0) / (4.0 * PI) \
-                * ly.ttop[layer * sz.nsun + s]
+            amplitude = beam_coefficients(sz, sc, ly, cl, layer, s, mode)
             if amplitude == 0.0:
                 for i in range(n2):
                     zp[i] = 0.0
                 continue
-            moments = cl.moments + layer * nl * 6
-            for l in range(nl):
-                for t in range(ns):
-                    sc.bq[l * ns + t] = expansion_entry(moments, l, t, 0) * sc.dtab[l] \
-                        if l >= mode else 0.0
             dgemv(&trans_n, &ni, &nk, &amplitude, sc.pp, &ni, sc.bq, &one_i, &zero, zp,
                   &one_i)
             dgemv(&trans_n, &ni, &nk, &amplitude, sc.pm, &ni, sc.bq, &one_i, &zero, zp + nn,
