@@ -192,6 +192,11 @@ def test_unpolarized_limit_equals_scalar_kernel(stokes, albedo):
     assert np.abs(got - up).max() < tolerance * np.abs(up).max()
     assert np.all(out.radiance[..., 1:] == 0.0)
     np.testing.assert_allclose(out.flux_up[0], scalar.flux_up.values.ravel(), rtol=tolerance)
+    # the scalar's mean intensity includes the direct beam, S exp(-t / mu0) / (4 pi)
+    depth = np.concatenate([[0.0], np.cumsum(tau)])
+    direct = np.exp(-depth / MU0) / (4.0 * np.pi)
+    np.testing.assert_allclose(out.mean_intensity_diffuse[0] + direct,
+                               scalar.mean_intensity.values.ravel(), rtol=tolerance)
 
 
 @pytest.mark.parametrize("surface_albedo", [0.0, 0.25])

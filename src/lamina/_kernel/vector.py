@@ -47,6 +47,8 @@ class VectorRadiance(NamedTuple):
     """(sun, level): upward I flux 2 pi sum w mu I."""
     flux_down_diffuse: np.ndarray
     """(sun, level): diffuse downward I flux."""
+    mean_intensity_diffuse: np.ndarray
+    """(sun, level): the diffuse I averaged over all directions."""
     flux_direct: np.ndarray
     """(sun, level): the direct beam's flux mu0 S exp(-tau / mu0)."""
     view_radiance: np.ndarray
@@ -160,11 +162,12 @@ def vector_quadrature_radiance(
     view_radiance = np.zeros((1, nsun, nlev, 2, views.size, phi.size, stokes))
     flux_up = np.zeros((1, nsun, nlev))
     flux_down = np.zeros((1, nsun, nlev))
+    mean = np.zeros((1, nsun, nlev))
     status = np.zeros((1, 4), dtype=np.int64)
     irradiance = np.full((1, nsun), float(sun_irradiance))
     solve_vector_columns(tau[None], albedo[None], used[None], mu0[None].copy(), irradiance,
                          np.array([surface]), mu, wq, np.deg2rad(phi), views, stokes,
-                         radiance, view_radiance, flux_up, flux_down, status)
+                         radiance, view_radiance, flux_up, flux_down, mean, status)
     code, layer, term, info = (int(v) for v in status[0])
     if code:
         raise RuntimeError(
@@ -172,5 +175,5 @@ def vector_quadrature_radiance(
             f"{info}): {VECTOR_STATUS_NAMES.get(code, 'unknown failure')}")
     depth = np.concatenate([[0.0], np.cumsum(tau)])
     direct = float(sun_irradiance) * mu0[:, None] * np.exp(-depth[None, :] / mu0[:, None])
-    return VectorRadiance(mu, wq, radiance[0], flux_up[0], flux_down[0], direct,
+    return VectorRadiance(mu, wq, radiance[0], flux_up[0], flux_down[0], mean[0], direct,
                           view_radiance[0])

@@ -154,7 +154,7 @@ cdef Py_ssize_t last_term(VectorSizes *sz, VectorColumn *cl) noexcept nogil:
 
 cdef void add_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode, const double *mu,
                    const double *wq, const double *phi, Py_ssize_t nva, double *radiance,
-                   double *flux_up, double *flux_down) noexcept nogil:
+                   double *flux_up, double *flux_down, double *mean) noexcept nogil:
     """Add term ``mode`` at the azimuths: radiance [sun][level][2][n][va][ns]."""
     cdef Py_ssize_t nn = sz.nn, ns = sz.ns, n = sz.n, nlev = sz.nlayer + 1
     cdef Py_ssize_t s, level, d, i, a, c
@@ -174,7 +174,7 @@ cdef void add_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode, const do
                             out[c] = out[c] + f[d * nn + i * ns + c] * (cm if c < 2 else sm)
     if mode != 0:
         return
-    add_fluxes(sz, sc, mu, wq, flux_up, flux_down)
+    add_fluxes(sz, sc, mu, wq, flux_up, flux_down, mean)
 
 
 cdef void add_view_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode,
@@ -200,28 +200,31 @@ cdef void add_view_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode,
 
 
 cdef void add_fluxes(VectorSizes *sz, VectorScratch *sc, const double *mu, const double *wq,
-                     double *flux_up, double *flux_down) noexcept nogil:
-    """The I fluxes of term 0 at every level."""
+                     double *flux_up, double *flux_down, double *mean) noexcept nogil:
+    """The diffuse I fluxes and mean intensity (1/2) sum w (I+ + I-) of term 0 at the levels."""
     cdef Py_ssize_t nn = sz.nn, ns = sz.ns, n = sz.n, nlev = sz.nlayer + 1, s, level, i
-    cdef double up, down
+    cdef double up, down, both
     cdef const double *f
     for s in range(sz.nsun):
         for level in range(nlev):
             f = sc.field + (s * nlev + level) * 2 * nn
             up = 0.0
             down = 0.0
+            both = 0.0
             for i in range(n):
                 up = up + wq[i] * mu[i] * f[i * ns]
                 down = down + wq[i] * mu[i] * f[nn + i * ns]
+                both = both + wq[i] * (f[i * ns] + f[nn + i * ns])
             flux_up[s * nlev + level] = 2.0 * PI * up
             flux_down[s * nlev + level] = 2.0 * PI * down
+            mean[s * nlev + level] = 0.5 * both
 
 
 cdef int solve_vector_column(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
                              VectorColumn *cl, const double *mu, const double *wq,
                              const double *phi, Py_ssize_t nva, double *radiance,
                              double *view_radiance, double *flux_up, double *flux_down,
-                             long long *status) noexcept nogil:
+                             double *mean, long long *status) noexcept nogil:
     """All Fourier terms of one column; 0, or a status code (with layer, term, info)."""
     cdef Py_ssize_t mode, top = last_term(sz, cl), layer = -1
     cdef lapack_int info = 0
@@ -241,7 +244,7 @@ cdef int solve_vector_column(VectorSizes *sz, VectorScratch *sc, VectorLayers *l
             status[3] = info
             return code
         vector_levels(sz, sc, ly, cl)
-        add_term(sz, sc, mode, mu, wq, phi, nva, radiance, flux_up, flux_down)
+        add_term(sz, sc, mode, mu, wq, phi, nva, radiance, flux_up, flux_down, mean)
         if sz.nvz > 0:
             vector_view_radiances(sz, sc, ly, cl, mode, mu, wq)
             add_view_term(sz, sc, mode, phi, nva, view_radiance)
@@ -264,14 +267,18 @@ def solve_vector_columns(
     double[:, :, :, :, :, :, ::1] view_radiance,
     double[:, :, ::1] flux_up,
     double[:, :, ::1] flux_down,
+    double[:, :, ::1] mean_intensity,
     long long[:, ::1] status,
 ):
     """Fill the Stokes vectors at the quadrature cosines of a block of columns.
 
-    Inputs are checked by the caller (``vector_quadrature_radiance``); moments are
-    (column, layer, nl, 6). Outputs: radiance (column, sun, level, direction (0 up, 1 down),
-    cosine, azimuth, stokes), the diffuse I fluxes (column, sun, level) and status
-    (column, 4): code, layer, Fourier term, LAPACK info (0 where the column was solved).
+    Inputs are checked by the callers (``vector.vector_quadrature_radiance``,
+    ``lamina._solver.polarized``); moments are (column, layer, nl, 6), view cosines in
+    (0, 1] (may be empty). Outputs: radiance at the quadrature cosines (column, sun, level,
+    direction (0 up, 1 down), cosine, azimuth, stokes), the same at the view cosines
+    (column, sun, level, direction, view cosine, azimuth, stokes), the diffuse I fluxes and
+    mean intensity (column, sun, level) and status (column, 4): code, layer, Fourier term,
+    LAPACK info (0 where the column was solved).
     """
     cdef VectorSizes sz
     cdef VectorLayers ly
@@ -301,6 +308,7 @@ def solve_vector_columns(
                                              stokes)
             or tuple(np.shape(flux_up)) != (ncol, sz.nsun, sz.nlayer + 1)
             or tuple(np.shape(flux_down)) != (ncol, sz.nsun, sz.nlayer + 1)
+            or tuple(np.shape(mean_intensity)) != (ncol, sz.nsun, sz.nlayer + 1)
             or status.shape[0] != ncol or status.shape[1] != 4):
         raise ValueError("solve_vector_columns: arrays disagree in shape")
     workspace = allocate(&sz, &ly, &sc)
@@ -326,7 +334,7 @@ def solve_vector_columns(
                                    &quadrature_weights[0], &view_azimuth_radians[0], nva,
                                    &radiance[col, 0, 0, 0, 0, 0, 0], view_out,
                                    &flux_up[col, 0, 0], &flux_down[col, 0, 0],
-                                   &status[col, 0]) != 0:
+                                   &mean_intensity[col, 0, 0], &status[col, 0]) != 0:
                 continue
             for i in range(total + total_view):
                 if not isfinite((&radiance[col, 0, 0, 0, 0, 0, 0])[i] if i < total
