@@ -30,6 +30,13 @@ from lamina._solver.kernel_call import solve_block
 from lamina._solver.options import check_options
 from lamina._solver.outputs import assemble
 from lamina._solver.phase_checks import warn_about_phase_functions
+from lamina._solver.polarized import (
+    check_polarized,
+    check_stokes,
+    describe_polarized,
+    polarized_plan,
+    solve_polarized_block,
+)
 from lamina._solver.scaling import scale_layers
 from lamina._solver.surface_terms import check_surface, surface_arrays
 from lamina._solver.thermal_sources import planck_sources
@@ -67,6 +74,7 @@ def solve(
     gravity: float = EARTH_GRAVITY,
     heat_capacity: float = DRY_AIR_HEAT_CAPACITY,
     surface: object = None,
+    stokes: int = 1,
 ) -> xr.Dataset:
     """Radiances, fluxes and mean intensities in a layered plane-parallel atmosphere.
 
@@ -142,6 +150,16 @@ def solve(
         bottom boundary condition, the direct beam is reflected with the exact BRDF at the
         view angles, and a thermal run's surface emits with the directional emissivity
         1 - directional albedo. Its directional albedo is checked at the run's sun angles.
+    stokes : {1, 3, 4}
+        1 (default): the scalar solver. 3 solves for the Stokes components I, Q, U, 4 adds
+        V, with the atmosphere's ``scattering_matrix_moments`` (a layer given only
+        ``phase_moments`` scatters without polarizing): ``radiance`` gains a dim ``stokes``
+        (labels "I", "Q", "U", "V"; Q and U referred to the meridian plane of the direction
+        of propagation, Q > 0 parallel to it), with ``degree_of_polarization`` and
+        ``angle_of_linear_polarization``; fluxes and mean intensity are those of I. Not yet
+        with the single-scattering and aureole corrections, thermal emission, a
+        bidirectional surface, ``top_diffuse_radiance`` or output positions inside a layer
+        (ValueError); every Fourier term up to ``streams - 1`` is summed.
 
     Returns
     -------
@@ -170,10 +188,15 @@ def solve(
         aureole_correction=aureole_correction, fourier_tolerance=fourier_tolerance,
         max_fourier_terms=max_fourier_terms, gravity=gravity, heat_capacity=heat_capacity,
     )
+    stokes = check_stokes(stokes)
     sources = planck_sources(atmosphere, wavenumber_band, wavenumber, surface_temperature)
     bidirectional = surface_arrays(surface, options, sources.thermal)
+    if stokes > 1:
+        check_polarized(options, sources, bidirectional)
     # plan
     plan = plan_blocks(atmosphere, options, sources, bidirectional)
+    if stokes > 1:
+        plan = polarized_plan(plan, atmosphere, stokes)
     # apply over blocks
     results = xr.apply_ufunc(
         _solve_block, *plan.inputs,
@@ -186,7 +209,8 @@ def solve(
         keep_attrs=False,
     )
     # describe
-    return assemble(results, plan.output_names, atmosphere, options, sources, plan.settings)
+    out = assemble(results, plan.output_names, atmosphere, options, sources, plan.settings)
+    return describe_polarized(out, stokes) if stokes > 1 else out
 
 
 def _solve_block(
@@ -204,8 +228,13 @@ def _solve_block(
 ) -> tuple[np.ndarray, ...]:
     """Solve one block of columns (numpy in, numpy out); leading axes are columns.
 
-    ``surface``: the arrays of a bidirectional surface (``_solver.surface_terms``), if any.
+    ``surface``: the arrays of a bidirectional surface (``_solver.surface_terms``), if any;
+    with ``stokes`` > 1 the scattering matrix (``_solver.polarized``).
     """
+    if settings.stokes > 1:
+        return solve_polarized_block(tau, albedo, moments, sun_zenith, irradiance,
+                                     surface_albedo, planck_levels, planck_surface,
+                                     top_radiance, *surface, settings=settings)
     block = prepare_block(tau, albedo, moments, sun_zenith, irradiance, surface_albedo,
                           planck_levels, planck_surface, top_radiance, settings,
                           surface=surface)

@@ -182,3 +182,7 @@ cdef void vector_levels(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
                     value = value + coef[j] * column_value(sz, ly, sc, layer, c, j, False) \
                         + coef[nn + j] * column_value(sz, ly, sc, layer, c, j, True)
                 out[c] = value
+            if level == 0:
+                # no diffuse light enters at the top: the boundary value itself, exactly
+                for c in range(nn, n2):
+                    out[c] = 0.0

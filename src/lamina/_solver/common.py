@@ -163,6 +163,8 @@ class BlockSettings:
     optics_checked: bool
     #: the bidirectional surface's description (None: the Lambertian surface_albedo)
     surface: str | None = None
+    #: Stokes components solved (1: the scalar kernel; 3, 4: ``polarized``)
+    stokes: int = 1
 
 
 @dataclass(frozen=True, eq=False)

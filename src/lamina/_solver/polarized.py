@@ -1,0 +1,201 @@
+"""The polarized path of :func:`lamina.solve` (``stokes=3`` or ``4``): plan, block, describe.
+
+Everything that the Stokes-vector solve needs beyond the scalar pipeline, kept in one step
+module so that the scalar path is untouched: :func:`check_polarized` refuses what the
+vector kernel does not do yet, :func:`polarized_plan` adds the scattering matrix to the
+blocks' inputs and the ``stokes`` dim to ``radiance``, :func:`solve_polarized_block` runs
+prepare -> scale -> solve -> pack for one block with the vector kernel
+(``lamina._kernel.vector_driver``: Siewert 2000; de Haan, Bosma and Hovenier 1987), and
+:func:`describe_polarized` labels the components and adds ``degree_of_polarization`` and
+``angle_of_linear_polarization``.
+
+Delta-M scales every element by the alpha1 truncation f of the layer (the forward delta is
+f times the identity matrix): alpha_i' = (alpha_i - f) / (1 - f) for alpha1 and alpha4 (all
+l) and alpha2, alpha3 (l >= 2), beta_i' = beta_i / (1 - f) (DEVELOPERS.md,
+"Polarization"). alpha1' is the scalar step's scaled ``phase_moments`` itself, so a layer
+that the backward-peak rule keeps unscaled (f = 0, Cesaro means of alpha1) keeps its other
+elements cut to the streams.
+
+Not yet with ``stokes`` > 1 (ValueError naming the option): the single-scattering and
+aureole corrections (they need the rotated phase matrix along every view), thermal
+emission, a bidirectional surface, ``top_diffuse_radiance``, output positions inside a
+layer. The vector path sums every Fourier term that the moments carry (up to
+``streams - 1``): ``fourier_tolerance`` and ``max_fourier_terms`` do not apply to it.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+
+import numpy as np
+import xarray as xr
+
+from lamina._cf import cf_encode
+from lamina._kernel.vector_driver import VECTOR_STATUS_NAMES, solve_vector_columns
+from lamina._solver.blocks import pack_block, prepare_block
+from lamina._solver.common import (
+    BlockSettings,
+    Fields,
+    Layers,
+    Options,
+    SolverError,
+    SurfaceArrays,
+    ThermalSources,
+)
+from lamina._solver.corrections import unscale_direct_beam
+from lamina._solver.scaling import scale_layers
+from lamina.quadrature import double_gauss
+
+#: Component labels of the ``stokes`` dim.
+STOKES_LABELS = ("I", "Q", "U", "V")
+#: Labels of the atmosphere's ``element`` dim (lamina.polarization.ELEMENTS).
+_MATRIX = "scattering_matrix_moments"
+
+
+def check_stokes(stokes: object) -> int:
+    """``stokes`` as 1, 3 or 4."""
+    if isinstance(stokes, bool) or not isinstance(stokes, int | np.integer) \
+            or int(stokes) not in (1, 3, 4):
+        raise ValueError(f"stokes must be 1 (I), 3 (I, Q, U) or 4 (I, Q, U, V); got {stokes!r}")
+    return int(stokes)
+
+
+def check_polarized(options: Options, sources: ThermalSources,
+                    surface: SurfaceArrays | None) -> None:
+    """ValueError for what the vector path does not do yet (module docstring)."""
+    refused = [
+        (options.single_scattering_correction, "single_scattering_correction=True",
+         "pass single_scattering_correction=False"),
+        (options.aureole_correction, "aureole_correction=True", "pass aureole_correction=False"),
+        (sources.thermal, "thermal emission", "solve the thermal part with stokes=1"),
+        (surface is not None, "a bidirectional surface", "use surface_albedo"),
+    ]
+    top = options.top_diffuse_radiance
+    if top.chunks is not None or np.any(np.asarray(top.values) != 0.0):
+        refused.append((True, "top_diffuse_radiance", "leave it 0"))
+    levels = options.positions.levels
+    if np.any(levels != np.round(levels)):
+        refused.append((True, "output_levels inside a layer", "give whole level numbers"))
+    for wrong, what, hint in refused:
+        if wrong:
+            raise ValueError(f"stokes > 1 does not support {what} yet; {hint} (or stokes=1)")
+
+
+def _matrix(atmosphere: xr.Dataset) -> xr.DataArray:
+    """The atmosphere's scattering matrix, or alpha1 = phase_moments alone (unpolarizing)."""
+    if _MATRIX in atmosphere:
+        return atmosphere[_MATRIX]
+    moments = atmosphere["phase_moments"]
+    zero = xr.zeros_like(moments)
+    return xr.concat([moments] + [zero] * 5, dim="element").transpose(..., "element")
+
+
+def polarized_plan(plan, atmosphere: xr.Dataset, stokes: int):
+    """The scalar plan with the matrix as one more input and ``stokes`` on the radiance."""
+    matrix = _matrix(atmosphere)
+    core = ["layer", "moment", "element"]
+    if matrix.chunks is not None:
+        matrix = matrix.chunk({dim: -1 for dim in core})
+    output_core_dims = [
+        [*dims, "stokes"] if name == "radiance" else dims
+        for name, dims in zip(plan.output_names, plan.output_core_dims, strict=True)
+    ]
+    return dataclasses.replace(
+        plan, inputs=[*plan.inputs, matrix], input_core_dims=[*plan.input_core_dims, core],
+        output_core_dims=output_core_dims, output_sizes={**plan.output_sizes, "stokes": stokes},
+        settings=dataclasses.replace(plan.settings, stokes=stokes),
+    )
+
+
+def _scaled_matrix(matrix: np.ndarray, layers: Layers, streams: int) -> np.ndarray:
+    """Delta-M of every element (module docstring), cut to ``streams`` moments."""
+    ncol, nlayer = layers.optical_depth.shape
+    scaled = np.zeros((ncol, nlayer, streams, 6))
+    used = min(streams, matrix.shape[-2])
+    scaled[:, :, :used] = matrix[:, :, :used]
+    f = layers.truncation[:, :, None]
+    keep = 1.0 - f
+    degree = np.arange(streams)[None, None, :]
+    scaled[..., 3] = (scaled[..., 3] - f) / keep
+    for element in (1, 2):
+        scaled[..., element] = np.where(degree >= 2, (scaled[..., element] - f) / keep, 0.0)
+    scaled[..., 4:] = scaled[..., 4:] / keep[..., None]
+    scaled[..., 0] = layers.phase_moments
+    return np.ascontiguousarray(scaled)
+
+
+def solve_polarized_block(tau, albedo, moments, sun_zenith, irradiance, surface_albedo,
+                          planck_levels, planck_surface, top_radiance, matrix, *,
+                          settings: BlockSettings) -> tuple[np.ndarray, ...]:
+    """One block of columns through the vector kernel (numpy in, numpy out)."""
+    block = prepare_block(tau, albedo, moments, sun_zenith, irradiance, surface_albedo,
+                          planck_levels, planck_surface, top_radiance, settings)
+    ncol, nlayer = block.optical_depth.shape
+    matrix = np.broadcast_to(matrix, (*block.lead, *matrix.shape[-3:])).reshape(
+        ncol, nlayer, *matrix.shape[-2:])
+    layers = scale_layers(block.optical_depth, block.single_scattering_albedo,
+                          block.phase_moments, settings.streams, settings.delta_m)
+    scaled = _scaled_matrix(matrix, layers, settings.streams)
+    fields = _solve(block, layers, scaled, settings)
+    depth = unscale_direct_beam(block, layers, settings.positions, fields)
+    return pack_block(block, fields, depth, settings.views.wanted)
+
+
+def _solve(block, layers: Layers, matrix: np.ndarray, settings: BlockSettings) -> Fields:
+    """The kernel's fields at the output positions (whole levels)."""
+    mu, weights = double_gauss(settings.streams)
+    views, stokes = settings.views, settings.stokes
+    ncol, nsun = block.beam_cosines.shape
+    nlev, n = layers.optical_depth.shape[1] + 1, settings.streams // 2
+    cosines = np.ascontiguousarray(views.cosines) if views.wanted else np.zeros(0)
+    azimuth = np.ascontiguousarray(views.azimuth_radians) if views.wanted else np.zeros(1)
+    quadrature = np.empty((ncol, nsun, nlev, 2, n, azimuth.size, stokes))
+    radiance = np.empty((ncol, nsun, nlev, 2, cosines.size, azimuth.size, stokes))
+    flux_up, flux_down, mean = (np.empty((ncol, nsun, nlev)) for _ in range(3))
+    status = np.empty((ncol, 4), dtype=np.int64)
+    solve_vector_columns(
+        layers.optical_depth, np.ascontiguousarray(layers.single_scattering_albedo), matrix,
+        block.beam_cosines, np.ascontiguousarray(block.sun_irradiance, dtype=np.float64),
+        np.ascontiguousarray(block.surface_albedo, dtype=np.float64), mu, weights, azimuth,
+        cosines, stokes, quadrature, radiance, flux_up, flux_down, mean, status)
+    failed = np.flatnonzero(status[:, 0])
+    if failed.size:
+        code, layer, term, info = status[failed[0]]
+        raise SolverError(
+            f"the vector solver failed in column {failed[0]} of this block (layer {layer}, "
+            f"Fourier term {term}): {VECTOR_STATUS_NAMES.get(int(code), 'unknown failure')}"
+            f" (LAPACK info {info})")
+    at = np.round(settings.positions.levels).astype(np.intp)
+    last = np.max(np.abs(matrix) > 0.0, axis=(0, 1, 3))
+    terms = int(np.flatnonzero(last).max()) + 1 if last.any() else 1
+    return Fields(flux_up=flux_up[:, :, at], flux_down_diffuse=flux_down[:, :, at],
+                  mean_intensity=mean[:, :, at], radiance=radiance[:, :, at],
+                  fourier_terms=np.full(ncol, terms, dtype=np.int64))
+
+
+def describe_polarized(out: xr.Dataset, stokes: int) -> xr.Dataset:
+    """Component labels, degree and angle of polarization, and their descriptions."""
+    out.attrs["stokes"] = stokes
+    if "radiance" not in out:
+        return cf_encode(out)
+    out = out.assign_coords(stokes=list(STOKES_LABELS[:stokes]))
+    out["stokes"].attrs = {
+        "long_name": "Stokes component: Q and U referred to the meridian plane of the "
+                     "direction of propagation, Q > 0 parallel to it (DEVELOPERS.md, "
+                     "Polarization)"}
+    radiance = out["radiance"]
+    intensity = radiance.sel(stokes="I", drop=True)
+    polarized = sum(radiance.sel(stokes=label, drop=True) ** 2
+                    for label in STOKES_LABELS[1:stokes])
+    safe = xr.where(intensity > 0.0, intensity, 1.0)
+    out["degree_of_polarization"] = xr.where(intensity > 0.0, np.sqrt(polarized) / safe, 0.0)
+    out["degree_of_polarization"].attrs = {
+        "long_name": "degree of polarization sqrt(Q^2 + U^2 (+ V^2)) / I (0 where I = 0)",
+        "units": "1"}
+    angle = 0.5 * np.degrees(np.arctan2(radiance.sel(stokes="U", drop=True),
+                                        radiance.sel(stokes="Q", drop=True)))
+    out["angle_of_linear_polarization"] = angle
+    out["angle_of_linear_polarization"].attrs = {
+        "long_name": "angle of linear polarization (1/2) atan2(U, Q) from the meridian "
+                     "plane toward r = -e_phi", "units": "degree"}
+    return cf_encode(out)
