@@ -35,7 +35,7 @@ from lamina._solver.polarized import (
     check_stokes,
     describe_polarized,
     polarized_plan,
-    solve_polarized_block,
+    solve_polarized,
 )
 from lamina._solver.scaling import scale_layers
 from lamina._solver.surface_terms import check_surface, surface_arrays
@@ -231,17 +231,19 @@ def _solve_block(
     ``surface``: the arrays of a bidirectional surface (``_solver.surface_terms``), if any;
     with ``stokes`` > 1 the scattering matrix (``_solver.polarized``).
     """
+    matrix = None
     if settings.stokes > 1:
-        return solve_polarized_block(tau, albedo, moments, sun_zenith, irradiance,
-                                     surface_albedo, planck_levels, planck_surface,
-                                     top_radiance, *surface, settings=settings)
+        (matrix,), surface = surface, ()
     block = prepare_block(tau, albedo, moments, sun_zenith, irradiance, surface_albedo,
                           planck_levels, planck_surface, top_radiance, settings,
                           surface=surface)
     warn_about_phase_functions(block, settings)
     layers = scale_layers(block.optical_depth, block.single_scattering_albedo,
                           block.phase_moments, settings.streams, settings.delta_m)
-    fields = solve_block(block, layers, settings)
+    if matrix is None:
+        fields = solve_block(block, layers, settings)
+    else:
+        fields = solve_polarized(block, layers, matrix, settings)
     depth = unscale_direct_beam(block, layers, settings.positions, fields)
     if settings.views.wanted:
         fields.radiance = correct_radiance(block, layers, settings, fields.radiance)

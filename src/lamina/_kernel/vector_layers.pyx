@@ -32,10 +32,11 @@ problem of half the order):
   modes exp(-+k t); Dif = -k (A + B D)^-1 M S. Taking Dif from (A + B D), which stays
   well conditioned, rather than from the nearly singular A - B D of a nearly conservative
   term 0, keeps each computed mode an exact mode of a problem that differs from the given
-  one by round-off in its absorption (the slowest mode's k is then wrong by about 1e-2 of
-  itself for w = 1 - 1e-12, harmlessly: the field stays accurate to 1e-11). Complex
-  conjugate pairs k^2 (they occur for non-Rayleigh matrices, Siewert 2000) give two real
-  solutions each, the real and imaginary parts (vector_common.pxd).
+  one by round-off in its absorption (the slowest mode's k, about 1e-6 for
+  w = 1 - 1e-12, is wrong by about 1e-2 of itself, which is harmless), and the
+  sum-and-difference unknowns of vector_common.pxd keep the mode and its mirror image from
+  cancelling. Complex conjugate pairs k^2 (they occur for non-Rayleigh matrices, Siewert
+  2000) give two real solutions each, the real and imaginary parts (vector_common.pxd).
 * Beam particular solution: the 2 nn x 2 nn system for the vector z exp(-t / mu0),
   solved with dgesv. When mu0 k comes within RESONANCE_GAP of 1 for a real k in some
   layer, mu0 is shifted by 2 * RESONANCE_GAP (relative) for that term, as in the scalar
@@ -203,16 +204,11 @@ cdef int layer_modes(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly, Py_ss
     Leaves the weighted kernels ``wpp``, ``wpm`` (for the particular solution), the
     eigenvalues and the normalised modes. Returns 0 or a status code.
     """
-    cdef Py_ssize_t nn = sz.nn, ns = sz.ns, i, j, r
+    cdef Py_ssize_t nn = sz.nn, ns = sz.ns, i, j
     cdef lapack_int ni = <lapack_int>nn, info = 0, one_i = 1
-    cdef double one = 1.0, zero = 0.0, f, f2, lam, kr, ki, big, sr, si, xr, xi, dr, di
+    cdef double one = 1.0, zero = 0.0, f, f2
     cdef double *wpp = ly.wpp + layer * nn * nn
     cdef double *wpm = ly.wpm + layer * nn * nn
-    cdef double *ss = ly.ss + layer * nn * nn
-    cdef double *dd = ly.dd + layer * nn * nn
-    cdef double *krv = ly.kr + layer * nn
-    cdef double *kiv = ly.ki + layer * nn
-    cdef Py_ssize_t *partner = ly.partner + layer * nn
     cdef char trans_n = b'N', job_n = b'N', job_v = b'V'
     phase_fourier(sz, moments, mode, sc.pp, nn, sc.pp, nn, sc.bt, wpp)
     phase_fourier(sz, moments, mode, sc.pp, nn, sc.pm, nn, sc.btm, wpm)
@@ -248,6 +244,23 @@ cdef int layer_modes(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly, Py_ss
     if info != 0:
         failed_info[0] = info
         return VSTATUS_SUM_FACTOR
+    return store_modes(sz, sc, ly, layer, failed_info)
+
+
+cdef int store_modes(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly, Py_ssize_t layer,
+                     lapack_int *failed_info) noexcept nogil:
+    """k, S and Dif of every mode from dgeev's (wr, wi, vr) and xs = (A + B D)^-1 M vr.
+
+    A real k^2 <= 0 (no decaying mode) is status VSTATUS_EIGENVALUE; each mode (a complex
+    pair by one common factor) is scaled to a largest component of 1.
+    """
+    cdef Py_ssize_t nn = sz.nn, i, j, r
+    cdef double lam, kr, ki, big, sr, si, xr, xi, dr, di
+    cdef double *ss = ly.ss + layer * nn * nn
+    cdef double *dd = ly.dd + layer * nn * nn
+    cdef double *krv = ly.kr + layer * nn
+    cdef double *kiv = ly.ki + layer * nn
+    cdef Py_ssize_t *partner = ly.partner + layer * nn
     j = 0
     while j < nn:
         if sc.wi[j] == 0.0:

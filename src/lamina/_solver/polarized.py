@@ -3,9 +3,10 @@
 Everything that the Stokes-vector solve needs beyond the scalar pipeline, kept in one step
 module so that the scalar path is untouched: :func:`check_polarized` refuses what the
 vector kernel does not do yet, :func:`polarized_plan` adds the scattering matrix to the
-blocks' inputs and the ``stokes`` dim to ``radiance``, :func:`solve_polarized_block` runs
-prepare -> scale -> solve -> pack for one block with the vector kernel
-(``lamina._kernel.vector_driver``: Siewert 2000; de Haan, Bosma and Hovenier 1987), and
+blocks' inputs and the ``stokes`` dim to ``radiance``, :func:`solve_polarized` is the
+block's solve step with the vector kernel (``lamina._kernel.vector_driver``: Siewert 2000;
+de Haan, Bosma and Hovenier 1987; the driver runs prepare, scale, the direct beam and pack
+as for the scalar path), and
 :func:`describe_polarized` labels the components and adds ``degree_of_polarization`` and
 ``angle_of_linear_polarization``.
 
@@ -32,8 +33,8 @@ import xarray as xr
 
 from lamina._cf import cf_encode
 from lamina._kernel.vector_driver import VECTOR_STATUS_NAMES, solve_vector_columns
-from lamina._solver.blocks import pack_block, prepare_block
 from lamina._solver.common import (
+    Block,
     BlockSettings,
     Fields,
     Layers,
@@ -42,8 +43,6 @@ from lamina._solver.common import (
     SurfaceArrays,
     ThermalSources,
 )
-from lamina._solver.corrections import unscale_direct_beam
-from lamina._solver.scaling import scale_layers
 from lamina.quadrature import double_gauss
 
 #: Component labels of the ``stokes`` dim.
@@ -124,24 +123,20 @@ def _scaled_matrix(matrix: np.ndarray, layers: Layers, streams: int) -> np.ndarr
     return np.ascontiguousarray(scaled)
 
 
-def solve_polarized_block(tau, albedo, moments, sun_zenith, irradiance, surface_albedo,
-                          planck_levels, planck_surface, top_radiance, matrix, *,
-                          settings: BlockSettings) -> tuple[np.ndarray, ...]:
-    """One block of columns through the vector kernel (numpy in, numpy out)."""
-    block = prepare_block(tau, albedo, moments, sun_zenith, irradiance, surface_albedo,
-                          planck_levels, planck_surface, top_radiance, settings)
+def solve_polarized(block: Block, layers: Layers, matrix: np.ndarray,
+                    settings: BlockSettings) -> Fields:
+    """The vector kernel's fields of the (scaled) problem at the output positions.
+
+    ``matrix`` is the block's scattering matrix as given (leading axes, layer, moment,
+    element); ``layers`` the scalar scale step's output, whose truncation f scales it.
+    """
     ncol, nlayer = block.optical_depth.shape
     matrix = np.broadcast_to(matrix, (*block.lead, *matrix.shape[-3:])).reshape(
         ncol, nlayer, *matrix.shape[-2:])
-    layers = scale_layers(block.optical_depth, block.single_scattering_albedo,
-                          block.phase_moments, settings.streams, settings.delta_m)
-    scaled = _scaled_matrix(matrix, layers, settings.streams)
-    fields = _solve(block, layers, scaled, settings)
-    depth = unscale_direct_beam(block, layers, settings.positions, fields)
-    return pack_block(block, fields, depth, settings.views.wanted)
+    return _solve(block, layers, _scaled_matrix(matrix, layers, settings.streams), settings)
 
 
-def _solve(block, layers: Layers, matrix: np.ndarray, settings: BlockSettings) -> Fields:
+def _solve(block: Block, layers: Layers, matrix: np.ndarray, settings: BlockSettings) -> Fields:
     """The kernel's fields at the output positions (whole levels)."""
     mu, weights = double_gauss(settings.streams)
     views, stokes = settings.views, settings.stokes
