@@ -156,10 +156,11 @@ def solve(
         ``phase_moments`` scatters without polarizing): ``radiance`` gains a dim ``stokes``
         (labels "I", "Q", "U", "V"; Q and U referred to the meridian plane of the direction
         of propagation, Q > 0 parallel to it), with ``degree_of_polarization`` and
-        ``angle_of_linear_polarization``; fluxes and mean intensity are those of I. Not yet
-        with the single-scattering and aureole corrections, thermal emission, a
-        bidirectional surface, ``top_diffuse_radiance`` or output positions inside a layer
-        (ValueError); every Fourier term up to ``streams - 1`` is summed.
+        ``angle_of_linear_polarization``; fluxes and mean intensity are those of I. The
+        single-scattering correction uses the full matrix; not yet with the aureole
+        correction (pass ``aureole_correction=False``), thermal emission, a bidirectional
+        surface, ``top_diffuse_radiance`` or output positions inside a layer (ValueError);
+        every Fourier term up to ``streams - 1`` is summed.
 
     Returns
     -------
@@ -245,6 +246,7 @@ def _solve_block(
     else:
         fields = solve_polarized(block, layers, matrix, settings)
     depth = unscale_direct_beam(block, layers, settings.positions, fields)
-    if settings.views.wanted:
+    if settings.views.wanted and matrix is None:
+        # (the polarized solve step makes its own single-scattering correction)
         fields.radiance = correct_radiance(block, layers, settings, fields.radiance)
     return pack_block(block, fields, depth, settings.views.wanted)

@@ -17,11 +17,12 @@ l) and alpha2, alpha3 (l >= 2), beta_i' = beta_i / (1 - f) (DEVELOPERS.md,
 that the backward-peak rule keeps unscaled (f = 0, Cesaro means of alpha1) keeps its other
 elements cut to the streams.
 
-Not yet with ``stokes`` > 1 (ValueError naming the option): the single-scattering and
-aureole corrections (they need the rotated phase matrix along every view), thermal
-emission, a bidirectional surface, ``top_diffuse_radiance``, output positions inside a
-layer. The vector path sums every Fourier term that the moments carry (up to
-``streams - 1``): ``fourier_tolerance`` and ``max_fourier_terms`` do not apply to it.
+The single-scattering correction (TMS) uses the exact matrix: the singly scattered Stokes
+vector of the unpolarized beam is F11 and F12 turned from the scattering plane onto each
+view's meridian plane. Not yet with ``stokes`` > 1 (ValueError naming the option): the
+aureole correction, thermal emission, a bidirectional surface, ``top_diffuse_radiance``,
+output positions inside a layer. The vector path sums every Fourier term that the moments
+carry (up to ``streams - 1``): ``fourier_tolerance`` and ``max_fourier_terms`` do not apply to it.
 """
 
 from __future__ import annotations
@@ -31,6 +32,7 @@ import dataclasses
 import numpy as np
 import xarray as xr
 
+from lamina import _kernel
 from lamina._cf import cf_encode
 from lamina._kernel.vector_driver import VECTOR_STATUS_NAMES, solve_vector_columns
 from lamina._solver.common import (
@@ -42,7 +44,10 @@ from lamina._solver.common import (
     SolverError,
     SurfaceArrays,
     ThermalSources,
+    Views,
+    scattering_cosines,
 )
+from lamina.polarization import generalized_spherical_functions
 from lamina.quadrature import double_gauss
 
 #: Component labels of the ``stokes`` dim.
@@ -63,9 +68,8 @@ def check_polarized(options: Options, sources: ThermalSources,
                     surface: SurfaceArrays | None) -> None:
     """ValueError for what the vector path does not do yet (module docstring)."""
     refused = [
-        (options.single_scattering_correction, "single_scattering_correction=True",
-         "pass single_scattering_correction=False"),
-        (options.aureole_correction, "aureole_correction=True", "pass aureole_correction=False"),
+        (options.single_scattering_correction and options.aureole_correction,
+         "aureole_correction=True", "pass aureole_correction=False"),
         (sources.thermal, "thermal emission", "solve the thermal part with stokes=1"),
         (surface is not None, "a bidirectional surface", "use surface_albedo"),
     ]
@@ -133,7 +137,86 @@ def solve_polarized(block: Block, layers: Layers, matrix: np.ndarray,
     ncol, nlayer = block.optical_depth.shape
     matrix = np.broadcast_to(matrix, (*block.lead, *matrix.shape[-3:])).reshape(
         ncol, nlayer, *matrix.shape[-2:])
-    return _solve(block, layers, _scaled_matrix(matrix, layers, settings.streams), settings)
+    scaled = _scaled_matrix(matrix, layers, settings.streams)
+    fields = _solve(block, layers, scaled, settings)
+    if settings.views.wanted and settings.single_scattering_correction:
+        fields.radiance = fields.radiance + _single_scattering_correction(
+            block, layers, matrix, scaled, settings)
+    return fields
+
+
+def _meridian_rotation(mu0: np.ndarray, views: Views) -> tuple[np.ndarray, np.ndarray]:
+    """cos 2 alpha, sin 2 alpha that turn the scattering plane onto each view's meridian plane.
+
+    With the beam k_in = (sin theta0, 0, -mu0) and the view k_out (up and down), the
+    scattering plane's r is n = k_in x k_out / |k_in x k_out| and its l is k_out x n; alpha
+    is the angle from the meridian plane's l = e_theta toward r = -e_phi to it (Hovenier, van
+    der Mee and Domke 2004, section 2.3, in the vector form of
+    tests/polarized_references.phase_matrix). Where k_out is parallel to k_in the plane is
+    undefined and F12 = 0 there; alpha = 0 is taken. Shapes (column, sun, 2, vz, va).
+    """
+    sin0 = np.sqrt(1.0 - mu0**2)[:, :, None, None, None]
+    k_in = np.stack(np.broadcast_arrays(sin0, 0.0 * sin0, -mu0[:, :, None, None, None]), -1)
+    sign = np.array([1.0, -1.0])[None, None, :, None, None]
+    u = sign * views.cosines[None, None, None, :, None]
+    s = np.sqrt(np.clip(1.0 - u**2, 0.0, None))
+    phi = views.azimuth_radians[None, None, None, None, :]
+    k_out = np.stack(np.broadcast_arrays(s * np.cos(phi), s * np.sin(phi), u), -1)
+    ell = np.stack(np.broadcast_arrays(u * np.cos(phi), u * np.sin(phi), -s), -1)
+    k_in, k_out, ell = np.broadcast_arrays(k_in, k_out, ell)
+    normal = np.cross(k_in, k_out)
+    size = np.linalg.norm(normal, axis=-1, keepdims=True)
+    normal = np.divide(normal, size, out=np.zeros_like(normal), where=size > 1e-12)
+    ell_plane = np.cross(k_out, normal)
+    alpha = np.arctan2(np.sum(ell * normal, -1), np.sum(ell * ell_plane, -1))
+    alpha = np.where(size[..., 0] > 1e-12, alpha, 0.0)
+    return np.cos(2.0 * alpha), np.sin(2.0 * alpha)
+
+
+def _single_scattering_correction(block: Block, layers: Layers, matrix: np.ndarray,
+                                  scaled: np.ndarray, settings: BlockSettings) -> np.ndarray:
+    """Exact minus truncated singly scattered Stokes vectors (TMS, Nakajima and Tanaka 1988).
+
+    The scalar step's correction (``corrections``) for every component: an unpolarized beam
+    scattered once is Z e1 = L(alpha) (F11, F12, 0, 0) = (F11, cos 2a F12, -sin 2a F12, 0),
+    so I takes w F11, Q and U w F12 turned by the meridian rotation, V nothing. The exact
+    value uses every moment with the scaled optical depth and the albedo w / (1 - w f), the
+    truncated one (already in the discrete-ordinates solution) the scaled albedo and
+    matrix. Returns (column, sun, position, direction, vz, va, stokes).
+    """
+    views, positions = settings.views, settings.positions
+    albedo, albedo_s = block.single_scattering_albedo, layers.single_scattering_albedo
+    mu0 = block.beam_cosines
+    ncol, nsun = mu0.shape
+    cosine = scattering_cosines(mu0, views)                      # (col, sun, 2, vz, va)
+    remaining = 1.0 - albedo * layers.truncation
+    albedo_exact = np.divide(albedo, remaining, out=np.zeros_like(albedo),
+                             where=remaining > 0.0)
+    terms = max(matrix.shape[-2], scaled.shape[-2])
+    weight = 2.0 * np.arange(terms) + 1.0
+    elements = []
+    for index, (m, n) in ((0, (0, 0)), (4, (0, 2))):             # alpha1 -> F11, beta1 -> F12
+        difference = np.zeros((ncol, albedo.shape[1], terms))
+        difference[..., :matrix.shape[-2]] = albedo_exact[..., None] * matrix[..., index]
+        difference[..., :scaled.shape[-2]] -= albedo_s[..., None] * scaled[..., index]
+        # lamina's expansion is in P^l_mn = i^(n-m) d^l_mn: F12 = sum (2l+1) beta1 P^l_02
+        table = generalized_spherical_functions(m, n, cosine.reshape(ncol, -1), terms)
+        elements.append(np.einsum("cln,ckn->clk", difference * weight, table,
+                                  optimize=False).reshape(ncol, -1, *cosine.shape[1:]))
+    f11, f12 = elements
+    cos2, sin2 = _meridian_rotation(mu0, views)
+    parts = [f11, cos2[:, None] * f12, -sin2[:, None] * f12]
+    correction = np.zeros((ncol, nsun, positions.layer.size, 2, views.cosines.size,
+                           views.azimuth.size, settings.stokes))
+    tau_s = layers.optical_depth
+    for component, weighted in enumerate(parts):
+        out = np.zeros(correction.shape[:-1])
+        _kernel.single_scattering(
+            tau_s, np.ones_like(tau_s), np.ascontiguousarray(weighted), mu0,
+            np.ascontiguousarray(block.sun_irradiance, dtype=np.float64), positions.layer,
+            positions.fraction, np.ascontiguousarray(views.cosines), 1.0, out)
+        correction[..., component] = out
+    return correction
 
 
 def _solve(block: Block, layers: Layers, matrix: np.ndarray, settings: BlockSettings) -> Fields:
