@@ -157,10 +157,10 @@ def solve(
         (labels "I", "Q", "U", "V"; Q and U referred to the meridian plane of the direction
         of propagation, Q > 0 parallel to it), with ``degree_of_polarization`` and
         ``angle_of_linear_polarization``; fluxes and mean intensity are those of I. The
-        single-scattering correction uses the full matrix; not yet with the aureole
-        correction (pass ``aureole_correction=False``), thermal emission, a bidirectional
-        surface, ``top_diffuse_radiance`` or output positions inside a layer (ValueError);
-        every Fourier term up to ``streams - 1`` is summed.
+        single-scattering correction uses the full matrix, the aureole correction adds
+        unpolarized light to I. Not yet with thermal emission, a bidirectional surface,
+        ``top_diffuse_radiance`` or output positions inside a layer (ValueError); every
+        Fourier term up to ``streams - 1`` is summed.
 
     Returns
     -------
@@ -247,6 +247,10 @@ def _solve_block(
         fields = solve_polarized(block, layers, matrix, settings)
     depth = unscale_direct_beam(block, layers, settings.positions, fields)
     if settings.views.wanted and matrix is None:
-        # (the polarized solve step makes its own single-scattering correction)
         fields.radiance = correct_radiance(block, layers, settings, fields.radiance)
+    elif settings.views.wanted:
+        # I takes the scalar corrections (alpha1 is the phase function); the polarized solve
+        # step has corrected Q and U with the matrix
+        fields.radiance[..., 0] = correct_radiance(block, layers, settings,
+                                                   fields.radiance[..., 0])
     return pack_block(block, fields, depth, settings.views.wanted)

@@ -19,9 +19,15 @@ elements cut to the streams.
 
 The single-scattering correction (TMS) uses the exact matrix: the singly scattered Stokes
 vector of the unpolarized beam is F11 and F12 turned from the scattering plane onto each
-view's meridian plane. Not yet with ``stokes`` > 1 (ValueError naming the option): the
-aureole correction, thermal emission, a bidirectional surface, ``top_diffuse_radiance``,
-output positions inside a layer. The vector path sums every Fourier term that the moments
+view's meridian plane. I takes the scalar corrections in the driver (alpha1 is the scalar
+phase function, so they are the same), Q and U are corrected here. The aureole
+correction's light (the beam scattered several times inside the forward peak) is added to
+I only, as unpolarized: near the forward direction the scattering matrix of spheres tends
+to F11 times the identity (F12 -> 0, F22, F33, F44 -> F11; Hovenier, van der Mee and Domke
+2004, ch. 2), so the peak leaves the unpolarized beam unpolarized (an approximation for
+non-spherical particles). Not yet with ``stokes`` > 1 (ValueError naming the option):
+thermal emission, a bidirectional surface, ``top_diffuse_radiance``, output positions
+inside a layer. The vector path sums every Fourier term that the moments
 carry (up to ``streams - 1``): ``fourier_tolerance`` and ``max_fourier_terms`` do not apply to it.
 """
 
@@ -68,8 +74,6 @@ def check_polarized(options: Options, sources: ThermalSources,
                     surface: SurfaceArrays | None) -> None:
     """ValueError for what the vector path does not do yet (module docstring)."""
     refused = [
-        (options.single_scattering_correction and options.aureole_correction,
-         "aureole_correction=True", "pass aureole_correction=False"),
         (sources.thermal, "thermal emission", "solve the thermal part with stokes=1"),
         (surface is not None, "a bidirectional surface", "use surface_albedo"),
     ]
@@ -175,14 +179,15 @@ def _meridian_rotation(mu0: np.ndarray, views: Views) -> tuple[np.ndarray, np.nd
 
 def _single_scattering_correction(block: Block, layers: Layers, matrix: np.ndarray,
                                   scaled: np.ndarray, settings: BlockSettings) -> np.ndarray:
-    """Exact minus truncated singly scattered Stokes vectors (TMS, Nakajima and Tanaka 1988).
+    """Exact minus truncated singly scattered Q and U (TMS, Nakajima and Tanaka 1988).
 
-    The scalar step's correction (``corrections``) for every component: an unpolarized beam
-    scattered once is Z e1 = L(alpha) (F11, F12, 0, 0) = (F11, cos 2a F12, -sin 2a F12, 0),
-    so I takes w F11, Q and U w F12 turned by the meridian rotation, V nothing. The exact
-    value uses every moment with the scaled optical depth and the albedo w / (1 - w f), the
-    truncated one (already in the discrete-ordinates solution) the scaled albedo and
-    matrix. Returns (column, sun, position, direction, vz, va, stokes).
+    The scalar step's correction (``corrections``) for the polarized components: an
+    unpolarized beam scattered once is Z e1 = L(alpha) (F11, F12, 0, 0) = (F11, cos 2a F12,
+    -sin 2a F12, 0), so Q and U take w F12 turned by the meridian rotation, V nothing (I,
+    w F11, is the scalar correction's, made by the driver). The exact value uses every
+    moment with the scaled optical depth and the albedo w / (1 - w f), the truncated one
+    (already in the discrete-ordinates solution) the scaled albedo and matrix. Returns
+    (column, sun, position, direction, vz, va, stokes), 0 for I and V.
     """
     views, positions = settings.views, settings.positions
     albedo, albedo_s = block.single_scattering_albedo, layers.single_scattering_albedo
@@ -194,22 +199,19 @@ def _single_scattering_correction(block: Block, layers: Layers, matrix: np.ndarr
                              where=remaining > 0.0)
     terms = max(matrix.shape[-2], scaled.shape[-2])
     weight = 2.0 * np.arange(terms) + 1.0
-    elements = []
-    for index, (m, n) in ((0, (0, 0)), (4, (0, 2))):             # alpha1 -> F11, beta1 -> F12
-        difference = np.zeros((ncol, albedo.shape[1], terms))
-        difference[..., :matrix.shape[-2]] = albedo_exact[..., None] * matrix[..., index]
-        difference[..., :scaled.shape[-2]] -= albedo_s[..., None] * scaled[..., index]
-        # lamina's expansion is in P^l_mn = i^(n-m) d^l_mn: F12 = sum (2l+1) beta1 P^l_02
-        table = generalized_spherical_functions(m, n, cosine.reshape(ncol, -1), terms)
-        elements.append(np.einsum("cln,ckn->clk", difference * weight, table,
-                                  optimize=False).reshape(ncol, -1, *cosine.shape[1:]))
-    f11, f12 = elements
+    difference = np.zeros((ncol, albedo.shape[1], terms))
+    difference[..., :matrix.shape[-2]] = albedo_exact[..., None] * matrix[..., 4]
+    difference[..., :scaled.shape[-2]] -= albedo_s[..., None] * scaled[..., 4]
+    # lamina's expansion is in P^l_mn = i^(n-m) d^l_mn: F12 = sum (2l+1) beta1 P^l_02
+    table = generalized_spherical_functions(0, 2, cosine.reshape(ncol, -1), terms)
+    f12 = np.einsum("cln,ckn->clk", difference * weight, table,
+                    optimize=False).reshape(ncol, -1, *cosine.shape[1:])
     cos2, sin2 = _meridian_rotation(mu0, views)
-    parts = [f11, cos2[:, None] * f12, -sin2[:, None] * f12]
+    parts = {1: cos2[:, None] * f12, 2: -sin2[:, None] * f12}
     correction = np.zeros((ncol, nsun, positions.layer.size, 2, views.cosines.size,
                            views.azimuth.size, settings.stokes))
     tau_s = layers.optical_depth
-    for component, weighted in enumerate(parts):
+    for component, weighted in parts.items():
         out = np.zeros(correction.shape[:-1])
         _kernel.single_scattering(
             tau_s, np.ones_like(tau_s), np.ascontiguousarray(weighted), mu0,
