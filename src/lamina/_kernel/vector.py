@@ -160,13 +160,17 @@ def vector_quadrature_radiance(
     nsun, nlev, n = mu0.size, tau.size + 1, nl // 2
     radiance = np.zeros((1, nsun, nlev, 2, n, phi.size, stokes))
     view_radiance = np.zeros((1, nsun, nlev, 2, views.size, phi.size, stokes))
+    # the levels as output positions: the top of every layer and the bottom of the last
+    position_layer = np.minimum(np.arange(nlev), tau.size - 1).astype(np.intp)
+    position_fraction = np.where(np.arange(nlev) < tau.size, 0.0, 1.0)
     flux_up = np.zeros((1, nsun, nlev))
     flux_down = np.zeros((1, nsun, nlev))
     mean = np.zeros((1, nsun, nlev))
     status = np.zeros((1, 4), dtype=np.int64)
     irradiance = np.full((1, nsun), float(sun_irradiance))
     solve_vector_columns(tau[None], albedo[None], used[None], mu0[None].copy(), irradiance,
-                         np.array([surface]), mu, wq, np.deg2rad(phi), views, stokes,
+                         np.array([surface]), mu, wq, np.deg2rad(phi), views, position_layer,
+                         position_fraction, stokes,
                          radiance, view_radiance, flux_up, flux_down, mean, status)
     code, layer, term, info = (int(v) for v in status[0])
     if code:

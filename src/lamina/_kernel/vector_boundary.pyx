@@ -154,35 +154,55 @@ cdef int vector_boundary_values(VectorSizes *sz, VectorScratch *sc, VectorLayers
     return 0
 
 
-cdef void vector_levels(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
-                        VectorColumn *cl) noexcept nogil:
-    """The term's Stokes vectors at the quadrature cosines at every level (``sc.field``).
+cdef void field_at(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly, VectorColumn *cl,
+                   Py_ssize_t layer, double t, double *out, Py_ssize_t stride) noexcept nogil:
+    """The term's 2 nn quadrature Stokes vectors at depth t in a layer, every sun.
 
-    field[sun][level][c], c = i ns + s for upward cosine i, nn + i ns + s downward; level l
-    is the top of layer l, level L the bottom of the last layer.
+    ``out + s * stride`` receives sun s (up then down); at the top of the atmosphere the
+    downward part is the boundary value 0 exactly.
     """
-    cdef Py_ssize_t nn = sz.nn, n2 = 2 * nn, nsun = sz.nsun, level, layer, s, c, j
+    cdef Py_ssize_t nn = sz.nn, n2 = 2 * nn, nsun = sz.nsun, s, c, j
     cdef Py_ssize_t neq = 2 * nn * sz.nlayer
-    cdef double t, beam, value
-    cdef double *out
+    cdef double tau = cl.tau[layer], beam, value
+    cdef double *target
     cdef const double *coef
     cdef const double *z
-    for level in range(sz.nlayer + 1):
+    mode_factors(sz, ly, layer, t, tau, sc.cs, sc.cp, sc.cs2, sc.cp2)
+    for s in range(nsun):
+        target = out + s * stride
+        coef = ly.coef + s * neq + 2 * nn * layer
+        z = ly.zp + (layer * nsun + s) * n2
+        if t == 0.0:
+            beam = 1.0
+        elif t == tau:
+            beam = ly.eb[layer * nsun + s]
+        else:
+            beam = exp(-t / sc.mu0e[s])
+        for c in range(n2):
+            value = z[c] * beam
+            for j in range(nn):
+                value = value + coef[j] * column_value(sz, ly, sc, layer, c, j, False) \
+                    + coef[nn + j] * column_value(sz, ly, sc, layer, c, j, True)
+            target[c] = value
+        if layer == 0 and t == 0.0:
+            for c in range(nn, n2):
+                target[c] = 0.0
+
+
+cdef void vector_levels(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
+                        VectorColumn *cl) noexcept nogil:
+    """The term's Stokes vectors at the quadrature cosines at every level and position.
+
+    field[sun][level][c], c = i ns + s for upward cosine i, nn + i ns + s downward; level l
+    is the top of layer l, level L the bottom of the last layer; pfield[sun][pos][c] the
+    same at the output positions.
+    """
+    cdef Py_ssize_t n2 = 2 * sz.nn, nlev = sz.nlayer + 1, level, layer, p
+    for level in range(nlev):
         layer = level if level < sz.nlayer else sz.nlayer - 1
-        t = 0.0 if level < sz.nlayer else cl.tau[layer]
-        mode_factors(sz, ly, layer, t, cl.tau[layer], sc.cs, sc.cp, sc.cs2, sc.cp2)
-        for s in range(nsun):
-            out = sc.field + (s * (sz.nlayer + 1) + level) * n2
-            coef = ly.coef + s * neq + 2 * nn * layer
-            z = ly.zp + (layer * nsun + s) * n2
-            beam = 1.0 if level < sz.nlayer else ly.eb[layer * nsun + s]
-            for c in range(n2):
-                value = z[c] * beam
-                for j in range(nn):
-                    value = value + coef[j] * column_value(sz, ly, sc, layer, c, j, False) \
-                        + coef[nn + j] * column_value(sz, ly, sc, layer, c, j, True)
-                out[c] = value
-            if level == 0:
-                # no diffuse light enters at the top: the boundary value itself, exactly
-                for c in range(nn, n2):
-                    out[c] = 0.0
+        field_at(sz, sc, ly, cl, layer, 0.0 if level < sz.nlayer else cl.tau[layer],
+                 sc.field + level * n2, nlev * n2)
+    for p in range(sz.npos):
+        layer = sc.player[p]
+        field_at(sz, sc, ly, cl, layer, sc.pfrac[p] * cl.tau[layer], sc.pfield + p * n2,
+                 sz.npos * n2)

@@ -51,6 +51,7 @@ cdef struct VectorSizes:
     Py_ssize_t nlayer
     Py_ssize_t nsun
     Py_ssize_t nvz        # view cosines (0: quadrature cosines only)
+    Py_ssize_t npos       # output positions (layer, fraction of its optical thickness)
 
 
 cdef struct VectorColumn:
@@ -115,6 +116,13 @@ cdef struct VectorScratch:
     double *srcu      # [layer][sun][nvz ns] a layer's source integrated to its top
     double *srcd      # [layer][sun][nvz ns] integrated to its bottom
     double *vfield    # [sun][level][2][nvz ns] the term's Stokes vectors at the views
+    # output positions
+    const Py_ssize_t *player   # [pos] layer of each position
+    const double *pfrac        # [pos] its fraction of the layer's optical thickness
+    double *pfield    # [sun][pos][2 nn] the term's Stokes vectors at the quadrature cosines
+    double *psrcu     # [pos][sun][nvz ns] source integrated from the layer bottom up to it
+    double *psrcd     # [pos][sun][nvz ns] from the layer top down to it
+    double *vpos      # [sun][pos][2][nvz ns] the term's Stokes vectors at the views
     double *work
     lapack_int lwork
     lapack_int *ipiv  # [max(2 nn, 2 nn layer)]

@@ -77,6 +77,8 @@ cdef tuple allocate(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc):
         "hdn": rows * 2 * nn, "fmat": 2 * nn * nn, "fmir": 2 * nn * nn, "hf": 4 * rows * nn,
         "hz": 2 * rows, "srcu": nlay * nsun * rows, "srcd": nlay * nsun * rows,
         "vfield": nsun * (nlay + 1) * 2 * rows,
+        "pfield": nsun * sz.npos * 2 * nn, "psrcu": sz.npos * nsun * rows,
+        "psrcd": sz.npos * nsun * rows, "vpos": nsun * sz.npos * 2 * rows,
     }
     arrays = {name: np.zeros(max(size, 1)) for name, size in sizes.items()}
     cdef dict at = {}
@@ -132,6 +134,10 @@ cdef tuple allocate(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc):
     sc.srcu = <double *><size_t>at["srcu"]
     sc.srcd = <double *><size_t>at["srcd"]
     sc.vfield = <double *><size_t>at["vfield"]
+    sc.pfield = <double *><size_t>at["pfield"]
+    sc.psrcu = <double *><size_t>at["psrcu"]
+    sc.psrcd = <double *><size_t>at["psrcd"]
+    sc.vpos = <double *><size_t>at["vpos"]
     partner = np.zeros(max(nlay * nn, 1), dtype=np.intp)
     cdef Py_ssize_t[::1] partner_view = partner
     ly.partner = &partner_view[0]
@@ -179,8 +185,8 @@ cdef void add_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode, const do
 
 cdef void add_view_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode,
                         const double *phi, Py_ssize_t nva, double *radiance) noexcept nogil:
-    """Add term ``mode`` at the view cosines: radiance [sun][level][2][vz][va][ns]."""
-    cdef Py_ssize_t ns = sz.ns, rows = sz.nvz * sz.ns, nlev = sz.nlayer + 1
+    """Add term ``mode`` at the view cosines: radiance [sun][position][2][vz][va][ns]."""
+    cdef Py_ssize_t ns = sz.ns, rows = sz.nvz * sz.ns, nlev = sz.npos
     cdef Py_ssize_t s, level, d, u, a, c
     cdef double cm, sm
     cdef const double *f
@@ -191,7 +197,7 @@ cdef void add_view_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode,
         for s in range(sz.nsun):
             for level in range(nlev):
                 for d in range(2):
-                    f = sc.vfield + ((s * nlev + level) * 2 + d) * rows
+                    f = sc.vpos + ((s * nlev + level) * 2 + d) * rows
                     for u in range(sz.nvz):
                         out = radiance \
                             + ((((s * nlev + level) * 2 + d) * sz.nvz + u) * nva + a) * ns
@@ -201,13 +207,13 @@ cdef void add_view_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode,
 
 cdef void add_fluxes(VectorSizes *sz, VectorScratch *sc, const double *mu, const double *wq,
                      double *flux_up, double *flux_down, double *mean) noexcept nogil:
-    """The diffuse I fluxes and mean intensity (1/2) sum w (I+ + I-) of term 0 at the levels."""
-    cdef Py_ssize_t nn = sz.nn, ns = sz.ns, n = sz.n, nlev = sz.nlayer + 1, s, level, i
+    """The diffuse I fluxes and mean intensity (1/2) sum w (I+ + I-) of term 0 at positions."""
+    cdef Py_ssize_t nn = sz.nn, ns = sz.ns, n = sz.n, nlev = sz.npos, s, level, i
     cdef double up, down, both
     cdef const double *f
     for s in range(sz.nsun):
         for level in range(nlev):
-            f = sc.field + (s * nlev + level) * 2 * nn
+            f = sc.pfield + (s * nlev + level) * 2 * nn
             up = 0.0
             down = 0.0
             both = 0.0
@@ -262,6 +268,8 @@ def solve_vector_columns(
     const double[::1] quadrature_weights,
     const double[::1] view_azimuth_radians,
     const double[::1] view_cosines,
+    const Py_ssize_t[::1] position_layer,
+    const double[::1] position_fraction,
     Py_ssize_t stokes,
     double[:, :, :, :, :, :, ::1] radiance,
     double[:, :, :, :, :, :, ::1] view_radiance,
@@ -274,11 +282,12 @@ def solve_vector_columns(
 
     Inputs are checked by the callers (``vector.vector_quadrature_radiance``,
     ``lamina._solver.polarized``); moments are (column, layer, nl, 6), view cosines in
-    (0, 1] (may be empty). Outputs: radiance at the quadrature cosines (column, sun, level,
-    direction (0 up, 1 down), cosine, azimuth, stokes), the same at the view cosines
-    (column, sun, level, direction, view cosine, azimuth, stokes), the diffuse I fluxes and
-    mean intensity (column, sun, level) and status (column, 4): code, layer, Fourier term,
-    LAPACK info (0 where the column was solved).
+    (0, 1] (may be empty), output positions as (layer, fraction of its optical thickness).
+    Outputs: radiance at the quadrature cosines (column, sun, level, direction (0 up,
+    1 down), cosine, azimuth, stokes), at the view cosines (column, sun, position,
+    direction, view cosine, azimuth, stokes), the diffuse I fluxes and mean intensity
+    (column, sun, position) and status (column, 4): code, layer, Fourier term, LAPACK info
+    (0 where the column was solved).
     """
     cdef VectorSizes sz
     cdef VectorLayers ly
@@ -296,6 +305,13 @@ def solve_vector_columns(
     nva = view_azimuth_radians.shape[0]
     sz.nvz = view_cosines.shape[0]
     sc.umu = &view_cosines[0] if sz.nvz > 0 else NULL
+    sz.npos = position_layer.shape[0]
+    if (sz.npos < 1 or position_fraction.shape[0] != sz.npos
+            or np.min(position_layer) < 0 or np.max(position_layer) >= sz.nlayer
+            or not (np.min(position_fraction) >= 0.0 and np.max(position_fraction) <= 1.0)):
+        raise ValueError("solve_vector_columns: positions out of range")
+    sc.player = &position_layer[0]
+    sc.pfrac = &position_fraction[0]
     if (stokes not in (1, 3, 4) or sz.nlayer < 1 or sz.n < 1 or nva < 1
             or single_scattering_albedo.shape[0] != ncol
             or single_scattering_albedo.shape[1] != sz.nlayer
@@ -306,14 +322,14 @@ def solve_vector_columns(
             or quadrature_weights.shape[0] != sz.n
             or tuple(np.shape(radiance)) != (ncol, sz.nsun, sz.nlayer + 1, 2, sz.n, nva,
                                              stokes)
-            or tuple(np.shape(flux_up)) != (ncol, sz.nsun, sz.nlayer + 1)
-            or tuple(np.shape(flux_down)) != (ncol, sz.nsun, sz.nlayer + 1)
-            or tuple(np.shape(mean_intensity)) != (ncol, sz.nsun, sz.nlayer + 1)
+            or tuple(np.shape(flux_up)) != (ncol, sz.nsun, sz.npos)
+            or tuple(np.shape(flux_down)) != (ncol, sz.nsun, sz.npos)
+            or tuple(np.shape(mean_intensity)) != (ncol, sz.nsun, sz.npos)
             or status.shape[0] != ncol or status.shape[1] != 4):
         raise ValueError("solve_vector_columns: arrays disagree in shape")
     workspace = allocate(&sz, &ly, &sc)
     total = sz.nsun * (sz.nlayer + 1) * 2 * sz.n * nva * stokes
-    total_view = sz.nsun * (sz.nlayer + 1) * 2 * sz.nvz * nva * stokes
+    total_view = sz.nsun * sz.npos * 2 * sz.nvz * nva * stokes
     with nogil:
         for col in range(ncol):
             for i in range(4):

@@ -132,17 +132,39 @@ cdef inline double mode_integral(const double *hf, const double *hfm, Py_ssize_t
     return hfm[q + j * rows] * mr + hfm[q + p * rows] * mi
 
 
-cdef void layer_view_sources(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
-                             VectorColumn *cl, Py_ssize_t layer, Py_ssize_t mode) noexcept nogil:
-    """``srcu`` and ``srcd`` of one layer, every sun and view row (after view_kernels)."""
+cdef inline void times_exponential(double kr, double ki, double t, double *re,
+                                   double *im) noexcept nogil:
+    """(re + i im) times exp(-(kr + i ki) t), in place."""
+    cdef double e = exp(-kr * t), c = e * cos(ki * t), d = -e * sin(ki * t), x = re[0]
+    re[0] = c * x - d * im[0]
+    im[0] = c * im[0] + d * x
+
+
+cdef void view_integrals(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
+                         VectorColumn *cl, Py_ssize_t layer, Py_ssize_t mode, double t_up,
+                         double t_down, double *dest_up, double *dest_down) noexcept nogil:
+    """A layer's source integrated along every view row (after view_kernels).
+
+    Upward from the layer bottom to depth ``t_up``, int_t^tau J exp(-(t' - t) / mu) dt' / mu,
+    into ``dest_up[s rows + q]``; downward from the layer top to ``t_down``,
+    int_0^t J exp(-(t - t') / mu) dt' / mu, into ``dest_down``. Each exponential of J
+    integrates in closed form: exp(-k t') over [t, tau] is exp(-k t) dexp(0, k + 1/mu,
+    tau - t), exp(-k (tau - t')) gives dexp(1/mu, k, tau - t), and over [0, t] the two
+    trade places.
+    """
     cdef Py_ssize_t nn = sz.nn, ns = sz.ns, rows = sz.nvz * sz.ns, n2 = 2 * nn
     cdef Py_ssize_t s, u, q, j, p, neq = 2 * nn * sz.nlayer
     cdef lapack_int ri = <lapack_int>rows, n2i = <lapack_int>n2, nki = <lapack_int>sz.nk
     cdef lapack_int one_i = 1
     cdef double tau = cl.tau[layer], inv, sec, kr, ki, amplitude, one = 1.0, zero = 0.0
-    cdef double er, ei, mr, mi, up, down
+    cdef double lu = tau - t_up, ld = t_down
+    cdef double er, ei, mr, mi, dr, di, nr, ni, up, down
     cdef const double *coef
     cdef const Py_ssize_t *partner = ly.partner + layer * nn
+    cdef const double *hf_up = sc.hf
+    cdef const double *hfm_up = sc.hf + rows * nn
+    cdef const double *hf_dn = sc.hf + 2 * rows * nn
+    cdef const double *hfm_dn = sc.hf + 3 * rows * nn
     cdef char trans_n = b'N'
     for s in range(sz.nsun):
         coef = ly.coef + s * neq + 2 * nn * layer
@@ -160,51 +182,55 @@ cdef void layer_view_sources(VectorSizes *sz, VectorScratch *sc, VectorLayers *l
         for u in range(sz.nvz):
             inv = 1.0 / sc.umu[u]
             for q in range(u * ns, (u + 1) * ns):
-                up = sc.hz[q] * dexp(0.0, sec + inv, tau) * inv
-                down = sc.hz[rows + q] * dexp(inv, sec, tau) * inv
+                up = sc.hz[q] * exp(-t_up * sec) * dexp(0.0, sec + inv, lu) * inv
+                down = sc.hz[rows + q] * dexp(inv, sec, ld) * inv
                 for j in range(nn):
                     kr = ly.kr[layer * nn + j]
                     ki = ly.ki[layer * nn + j]
                     p = partner[j]
                     if ki == 0.0:
-                        er = dexp(0.0, kr + inv, tau) * inv
-                        mr = dexp(inv, kr, tau) * inv
+                        er = exp(-kr * t_up) * dexp(0.0, kr + inv, lu) * inv
+                        mr = dexp(inv, kr, lu) * inv
+                        dr = dexp(inv, kr, ld) * inv
+                        nr = exp(-kr * (tau - t_down)) * dexp(0.0, kr + inv, ld) * inv
                         ei = 0.0
                         mi = 0.0
+                        di = 0.0
+                        ni = 0.0
                     else:
-                        complex_dexp(0.0, 0.0, kr + inv, ki, tau, &er, &ei)
-                        complex_dexp(inv, 0.0, kr, ki, tau, &mr, &mi)
-                        er = er * inv
-                        ei = ei * inv
-                        mr = mr * inv
-                        mi = mi * inv
-                    # upward to the top: F with (er, ei), F' with (mr, mi); downward to the
-                    # bottom the two exponentials trade places
-                    up = up + coef[j] * mode_integral(sc.hf, sc.hf + rows * nn, rows, q, j,
-                                                      p, ki, False, er, ei, mr, mi) \
-                        + coef[nn + j] * mode_integral(sc.hf, sc.hf + rows * nn, rows, q, j,
-                                                       p, ki, True, er, ei, mr, mi)
-                    down = down + coef[j] * mode_integral(
-                        sc.hf + 2 * rows * nn, sc.hf + 3 * rows * nn, rows, q, j, p, ki, False,
-                        mr, mi, er, ei) \
-                        + coef[nn + j] * mode_integral(
-                            sc.hf + 2 * rows * nn, sc.hf + 3 * rows * nn, rows, q, j, p, ki,
-                            True, mr, mi, er, ei)
-                sc.srcu[(layer * sz.nsun + s) * rows + q] = up
-                sc.srcd[(layer * sz.nsun + s) * rows + q] = down
+                        complex_dexp(0.0, 0.0, kr + inv, ki, lu, &er, &ei)
+                        times_exponential(kr, ki, t_up, &er, &ei)
+                        complex_dexp(inv, 0.0, kr, ki, lu, &mr, &mi)
+                        complex_dexp(inv, 0.0, kr, ki, ld, &dr, &di)
+                        complex_dexp(0.0, 0.0, kr + inv, ki, ld, &nr, &ni)
+                        times_exponential(kr, ki, tau - t_down, &nr, &ni)
+                        er, ei, mr, mi = er * inv, ei * inv, mr * inv, mi * inv
+                        dr, di, nr, ni = dr * inv, di * inv, nr * inv, ni * inv
+                    up = up + coef[j] * mode_integral(hf_up, hfm_up, rows, q, j, p, ki,
+                                                      False, er, ei, mr, mi) \
+                        + coef[nn + j] * mode_integral(hf_up, hfm_up, rows, q, j, p, ki,
+                                                       True, er, ei, mr, mi)
+                    down = down + coef[j] * mode_integral(hf_dn, hfm_dn, rows, q, j, p, ki,
+                                                          False, dr, di, nr, ni) \
+                        + coef[nn + j] * mode_integral(hf_dn, hfm_dn, rows, q, j, p, ki,
+                                                       True, dr, di, nr, ni)
+                dest_up[s * rows + q] = up
+                dest_down[s * rows + q] = down
 
 
 cdef void vector_view_radiances(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
                                 VectorColumn *cl, Py_ssize_t mode, const double *mu,
                                 const double *wq) noexcept nogil:
-    """The term's Stokes vectors at the view cosines at every level (``sc.vfield``).
+    """The term's Stokes vectors at the view cosines at every level and position.
 
-    vfield[sun][level][direction][u ns + s]; needs ``vector_levels``'s ``sc.field`` (the
-    downward flux onto the surface) and the solved coefficients.
+    vfield[sun][level][direction][u ns + s] and vpos[sun][pos][direction][u ns + s]; needs
+    ``vector_levels``'s ``sc.field`` (the downward flux onto the surface) and the solved
+    coefficients. A position inside a layer takes the level below (up) or above (down),
+    transmitted to it, plus the source of the part of the layer in between.
     """
     cdef Py_ssize_t nn = sz.nn, ns = sz.ns, rows = sz.nvz * sz.ns, nlev = sz.nlayer + 1
-    cdef Py_ssize_t layer, s, u, q, i, level
-    cdef double flux, total = 0.0, t
+    cdef Py_ssize_t layer, s, u, q, i, level, p
+    cdef double flux, total = 0.0, t, depth
     cdef double *out
     cdef const double *below
     if sz.nvz == 0:
@@ -216,7 +242,13 @@ cdef void vector_view_radiances(VectorSizes *sz, VectorScratch *sc, VectorLayers
     for layer in range(sz.nlayer):
         total = total + cl.tau[layer]
         view_kernels(sz, sc, ly, cl, layer, mode, wq)
-        layer_view_sources(sz, sc, ly, cl, layer, mode)
+        view_integrals(sz, sc, ly, cl, layer, mode, 0.0, cl.tau[layer],
+                       sc.srcu + layer * sz.nsun * rows, sc.srcd + layer * sz.nsun * rows)
+        for p in range(sz.npos):
+            if sc.player[p] == layer:
+                t = sc.pfrac[p] * cl.tau[layer]
+                view_integrals(sz, sc, ly, cl, layer, mode, t, t,
+                               sc.psrcu + p * sz.nsun * rows, sc.psrcd + p * sz.nsun * rows)
     for s in range(sz.nsun):
         # the surface: term 0 reflects A / pi times the downward I flux, unpolarized
         out = sc.vfield + ((s * nlev + sz.nlayer) * 2) * rows
@@ -242,3 +274,15 @@ cdef void vector_view_radiances(VectorSizes *sz, VectorScratch *sc, VectorLayers
             for q in range(rows):
                 t = exp(-cl.tau[layer] / sc.umu[q // ns])
                 out[q] = out[q - 2 * rows] * t + sc.srcd[(layer * sz.nsun + s) * rows + q]
+        for p in range(sz.npos):
+            layer = sc.player[p]
+            depth = sc.pfrac[p] * cl.tau[layer]
+            out = sc.vpos + ((s * sz.npos + p) * 2) * rows
+            below = sc.vfield + ((s * nlev + layer + 1) * 2) * rows
+            for q in range(rows):
+                out[q] = below[q] * exp(-(cl.tau[layer] - depth) / sc.umu[q // ns]) \
+                    + sc.psrcu[(p * sz.nsun + s) * rows + q]
+            below = sc.vfield + ((s * nlev + layer) * 2 + 1) * rows
+            for q in range(rows):
+                out[rows + q] = below[q] * exp(-depth / sc.umu[q // ns]) \
+                    + sc.psrcd[(p * sz.nsun + s) * rows + q]

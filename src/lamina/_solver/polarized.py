@@ -26,9 +26,9 @@ I only, as unpolarized: near the forward direction the scattering matrix of sphe
 to F11 times the identity (F12 -> 0, F22, F33, F44 -> F11; Hovenier, van der Mee and Domke
 2004, ch. 2), so the peak leaves the unpolarized beam unpolarized (an approximation for
 non-spherical particles). Not yet with ``stokes`` > 1 (ValueError naming the option):
-thermal emission, a bidirectional surface, ``top_diffuse_radiance``, output positions
-inside a layer. The vector path sums every Fourier term that the moments
-carry (up to ``streams - 1``): ``fourier_tolerance`` and ``max_fourier_terms`` do not apply to it.
+thermal emission, a bidirectional surface, ``top_diffuse_radiance``. The vector path sums
+every Fourier term that the moments carry (up to ``streams - 1``): ``fourier_tolerance``
+and ``max_fourier_terms`` do not apply to it.
 """
 
 from __future__ import annotations
@@ -80,9 +80,6 @@ def check_polarized(options: Options, sources: ThermalSources,
     top = options.top_diffuse_radiance
     if top.chunks is not None or np.any(np.asarray(top.values) != 0.0):
         refused.append((True, "top_diffuse_radiance", "leave it 0"))
-    levels = options.positions.levels
-    if np.any(levels != np.round(levels)):
-        refused.append((True, "output_levels inside a layer", "give whole level numbers"))
     for wrong, what, hint in refused:
         if wrong:
             raise ValueError(f"stokes > 1 does not support {what} yet; {hint} (or stokes=1)")
@@ -222,22 +219,26 @@ def _single_scattering_correction(block: Block, layers: Layers, matrix: np.ndarr
 
 
 def _solve(block: Block, layers: Layers, matrix: np.ndarray, settings: BlockSettings) -> Fields:
-    """The kernel's fields at the output positions (whole levels)."""
+    """The kernel's fields at the output positions."""
     mu, weights = double_gauss(settings.streams)
     views, stokes = settings.views, settings.stokes
     ncol, nsun = block.beam_cosines.shape
     nlev, n = layers.optical_depth.shape[1] + 1, settings.streams // 2
+    positions = settings.positions
+    npos = positions.layer.size
     cosines = np.ascontiguousarray(views.cosines) if views.wanted else np.zeros(0)
     azimuth = np.ascontiguousarray(views.azimuth_radians) if views.wanted else np.zeros(1)
     quadrature = np.empty((ncol, nsun, nlev, 2, n, azimuth.size, stokes))
-    radiance = np.empty((ncol, nsun, nlev, 2, cosines.size, azimuth.size, stokes))
-    flux_up, flux_down, mean = (np.empty((ncol, nsun, nlev)) for _ in range(3))
+    radiance = np.empty((ncol, nsun, npos, 2, cosines.size, azimuth.size, stokes))
+    flux_up, flux_down, mean = (np.empty((ncol, nsun, npos)) for _ in range(3))
     status = np.empty((ncol, 4), dtype=np.int64)
     solve_vector_columns(
         layers.optical_depth, np.ascontiguousarray(layers.single_scattering_albedo), matrix,
         block.beam_cosines, np.ascontiguousarray(block.sun_irradiance, dtype=np.float64),
         np.ascontiguousarray(block.surface_albedo, dtype=np.float64), mu, weights, azimuth,
-        cosines, stokes, quadrature, radiance, flux_up, flux_down, mean, status)
+        cosines, np.ascontiguousarray(positions.layer, dtype=np.intp),
+        np.ascontiguousarray(positions.fraction, dtype=np.float64), stokes, quadrature,
+        radiance, flux_up, flux_down, mean, status)
     failed = np.flatnonzero(status[:, 0])
     if failed.size:
         code, layer, term, info = status[failed[0]]
@@ -245,11 +246,10 @@ def _solve(block: Block, layers: Layers, matrix: np.ndarray, settings: BlockSett
             f"the vector solver failed in column {failed[0]} of this block (layer {layer}, "
             f"Fourier term {term}): {VECTOR_STATUS_NAMES.get(int(code), 'unknown failure')}"
             f" (LAPACK info {info})")
-    at = np.round(settings.positions.levels).astype(np.intp)
     last = np.max(np.abs(matrix) > 0.0, axis=(0, 1, 3))
     terms = int(np.flatnonzero(last).max()) + 1 if last.any() else 1
-    return Fields(flux_up=flux_up[:, :, at], flux_down_diffuse=flux_down[:, :, at],
-                  mean_intensity=mean[:, :, at], radiance=radiance[:, :, at],
+    return Fields(flux_up=flux_up, flux_down_diffuse=flux_down, mean_intensity=mean,
+                  radiance=radiance,
                   fourier_terms=np.full(ncol, terms, dtype=np.int64))
 
 
