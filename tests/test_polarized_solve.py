@@ -176,6 +176,25 @@ def test_positions_inside_a_layer_equal_the_levels_of_the_split_layer(corrected)
         np.testing.assert_allclose(got, expected, rtol=0, atol=1e-12 * np.abs(expected).max())
 
 
+@pytest.mark.parametrize("sun", [None, [30.0]])
+def test_top_diffuse_radiance_is_the_scalar_one_for_an_unpolarizing_atmosphere(sun):
+    # an isotropic unpolarized radiance falling on the top (alone or with a beam) enters I
+    # of term 0: over an unpolarizing atmosphere the scalar solve's I, Q = U = V = 0
+    atmosphere = lamina.make_atmosphere([0.3, 1.0], [0.9, 0.99],
+                                        lamina.phase.henyey_greenstein(0.6, 8))
+    kwargs = dict(streams=8, sun_zenith=sun, surface_albedo=0.2, view_zenith=VIEW,
+                  view_azimuth=AZIMUTH, top_diffuse_radiance=0.25, delta_m=False,
+                  fourier_tolerance=1e-300, **OFF)
+    scalar = lamina.solve(atmosphere, **kwargs)
+    vector = lamina.solve(atmosphere, stokes=4, **kwargs)
+    intensity = vector.radiance.sel(stokes="I")
+    assert float(np.abs(intensity - scalar.radiance).max()) < 1e-12 * float(
+        scalar.radiance.max())
+    assert float(np.abs(vector.radiance.sel(stokes=["Q", "U", "V"])).max()) == 0.0
+    for name in ("flux_up", "flux_down_diffuse", "mean_intensity"):
+        np.testing.assert_allclose(vector[name], scalar[name], rtol=1e-12, atol=1e-15)
+
+
 def test_unpolarizing_atmosphere_gives_the_scalar_solve():
     # a layer given only phase_moments scatters without polarizing: I equals the scalar
     # solve (no corrections), Q = U = V = 0, the fluxes too
@@ -199,7 +218,8 @@ def test_unpolarizing_atmosphere_gives_the_scalar_solve():
     [
         ({"stokes": 2}, "stokes"),
         ({"stokes": True}, "stokes"),
-        ({"stokes": 3, "top_diffuse_radiance": 0.1}, "top_diffuse_radiance"),
+        ({"stokes": 3, "surface": lamina.surface.cox_munk(5.0), "surface_albedo": None},
+         "bidirectional"),
     ],
 )
 def test_bad_polarized_options_name_the_argument(change, message):

@@ -158,9 +158,9 @@ def solve(
         of propagation, Q > 0 parallel to it), with ``degree_of_polarization`` and
         ``angle_of_linear_polarization``; fluxes and mean intensity are those of I. The
         single-scattering correction uses the full matrix, the aureole correction adds
-        unpolarized light to I. Not yet with thermal emission, a bidirectional surface or
-        ``top_diffuse_radiance`` (ValueError); every Fourier term up to ``streams - 1`` is
-        summed.
+        unpolarized light to I, ``top_diffuse_radiance`` is unpolarized. Not yet with
+        thermal emission or a bidirectional surface (ValueError); every Fourier term up to
+        ``streams - 1`` is summed.
 
     Returns
     -------

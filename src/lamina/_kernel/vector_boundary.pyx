@@ -6,10 +6,11 @@ Method (Stamnes and Conklin 1984 for the scalar case, which this follows compone
 component; Siewert 2000 and Garcia and Siewert 1989 for the vector problem): in every layer
 the Fourier term is the particular solution plus the 2 nn modes of vector_layers, each
 referred to the boundary it decays away from, so that every exponential is <= 1
-(vector_common.pxd). The conditions are: no diffuse light entering at the top, continuity
-of all Stokes components at every quadrature cosine at every interface, and at the bottom a
-Lambertian depolarizing surface: in term 0 the upward I at mu_i is sum_j 2 A w_j mu_j I-(mu_j)
-plus A mu0 S exp(-tau / mu0) / pi, and the surface reflects neither Q, U, V nor any term m > 0.
+(vector_common.pxd). The conditions are: the diffuse light entering at the top (an
+isotropic unpolarized radiance: I of term 0), continuity of all Stokes components at every
+quadrature cosine at every interface, and at the bottom a Lambertian depolarizing surface:
+in term 0 the upward I at mu_i is sum_j 2 A w_j mu_j I-(mu_j) plus
+A mu0 S exp(-tau / mu0) / pi, and the surface reflects neither Q, U, V nor any term m > 0.
 The system has 2 nn L equations with kl = ku = 3 nn - 1 (nn = n * stokes), solved by banded
 LU (dgbtrf/dgbtrs), one factorisation for all sun angles. ``vector_levels`` then evaluates
 the term's Stokes vectors at the quadrature cosines at every level.
@@ -94,6 +95,8 @@ cdef void sources(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc, VectorCo
     cdef double eb, reflected = 0.0, beam = 0.0, total = 0.0
     for c in range(nn):
         coef[c] = -z[nn + c]
+        if mode == 0 and c % ns == 0:
+            coef[c] = coef[c] + cl.top_radiance
     for layer in range(sz.nlayer - 1):
         z = ly.zp + (layer * nsun + sun) * 2 * nn
         z2 = ly.zp + ((layer + 1) * nsun + sun) * 2 * nn
@@ -159,7 +162,7 @@ cdef void field_at(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly, VectorC
     """The term's 2 nn quadrature Stokes vectors at depth t in a layer, every sun.
 
     ``out + s * stride`` receives sun s (up then down); at the top of the atmosphere the
-    downward part is the boundary value 0 exactly.
+    downward part is the boundary value exactly (the top radiance in I of term 0, else 0).
     """
     cdef Py_ssize_t nn = sz.nn, n2 = 2 * nn, nsun = sz.nsun, s, c, j
     cdef Py_ssize_t neq = 2 * nn * sz.nlayer
@@ -186,7 +189,7 @@ cdef void field_at(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly, VectorC
             target[c] = value
         if layer == 0 and t == 0.0:
             for c in range(nn, n2):
-                target[c] = 0.0
+                target[c] = cl.top_radiance if sc.mode == 0 and c % sz.ns == 0 else 0.0
 
 
 cdef void vector_levels(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,

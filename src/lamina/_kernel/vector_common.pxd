@@ -61,6 +61,7 @@ cdef struct VectorColumn:
     const double *mu0          # [sun]
     const double *irradiance   # [sun]
     double surface_albedo
+    double top_radiance        # isotropic unpolarized radiance falling on the top (term 0, I)
 
 
 cdef struct VectorLayers:
@@ -123,6 +124,7 @@ cdef struct VectorScratch:
     double *psrcu     # [pos][sun][nvz ns] source integrated from the layer bottom up to it
     double *psrcd     # [pos][sun][nvz ns] from the layer top down to it
     double *vpos      # [sun][pos][2][nvz ns] the term's Stokes vectors at the views
+    Py_ssize_t mode   # the Fourier term being solved
     double *work
     lapack_int lwork
     lapack_int *ipiv  # [max(2 nn, 2 nn layer)]

@@ -236,6 +236,7 @@ cdef int solve_vector_column(VectorSizes *sz, VectorScratch *sc, VectorLayers *l
     cdef lapack_int info = 0
     cdef int code
     for mode in range(min(top, sz.nl - 1) + 1):
+        sc.mode = mode
         code = vector_homogeneous(sz, sc, ly, cl, mu, wq, mode, &layer, &info)
         if code == 0:
             vector_beam_geometry(sz, sc, ly, cl)
@@ -264,6 +265,7 @@ def solve_vector_columns(
     const double[:, ::1] sun_cosine,
     const double[:, ::1] sun_irradiance,
     const double[::1] surface_albedo,
+    const double[::1] top_radiance,
     const double[::1] quadrature_cosines,
     const double[::1] quadrature_weights,
     const double[::1] view_azimuth_radians,
@@ -319,6 +321,7 @@ def solve_vector_columns(
             or scattering_matrix_moments.shape[3] != 6
             or sun_irradiance.shape[0] != ncol or sun_irradiance.shape[1] != sz.nsun
             or sun_cosine.shape[0] != ncol or surface_albedo.shape[0] != ncol
+            or top_radiance.shape[0] != ncol
             or quadrature_weights.shape[0] != sz.n
             or tuple(np.shape(radiance)) != (ncol, sz.nsun, sz.nlayer + 1, 2, sz.n, nva,
                                              stokes)
@@ -340,6 +343,7 @@ def solve_vector_columns(
             cl.mu0 = &sun_cosine[col, 0]
             cl.irradiance = &sun_irradiance[col, 0]
             cl.surface_albedo = surface_albedo[col]
+            cl.top_radiance = top_radiance[col]
             for i in range(total):
                 (&radiance[col, 0, 0, 0, 0, 0, 0])[i] = 0.0
             if sz.nvz > 0:

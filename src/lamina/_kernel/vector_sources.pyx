@@ -16,7 +16,7 @@ its top and int J exp(-(tau - t) / mu_u) dt / mu_u down to its bottom, is a sum 
 exponential differences: ``dexp`` of the scalar kernel for real eigenvalues and the beam,
 its complex form ``complex_dexp`` for complex pairs. The levels follow by transmitting
 upward from the surface (term 0, I only: the Lambertian surface's A / pi times the
-downward flux) and downward from the top (no diffuse light enters).
+downward flux) and downward from the top (the isotropic top radiance: term 0, I only).
 
 The modes' part of the source is formed once per layer with two dgemm (the kernels at the
 view cosines times the modes' vectors) and the beam's with two dgemv per sun angle.
@@ -267,7 +267,7 @@ cdef void vector_view_radiances(VectorSizes *sz, VectorScratch *sc, VectorLayers
                 out[q] = out[2 * rows + q] * t + sc.srcu[(layer * sz.nsun + s) * rows + q]
         out = sc.vfield + ((s * nlev) * 2 + 1) * rows
         for q in range(rows):
-            out[q] = 0.0
+            out[q] = cl.top_radiance if mode == 0 and q % ns == 0 else 0.0
         for level in range(1, nlev):
             layer = level - 1
             out = sc.vfield + ((s * nlev + level) * 2 + 1) * rows

@@ -26,7 +26,7 @@ I only, as unpolarized: near the forward direction the scattering matrix of sphe
 to F11 times the identity (F12 -> 0, F22, F33, F44 -> F11; Hovenier, van der Mee and Domke
 2004, ch. 2), so the peak leaves the unpolarized beam unpolarized (an approximation for
 non-spherical particles). Not yet with ``stokes`` > 1 (ValueError naming the option):
-thermal emission, a bidirectional surface, ``top_diffuse_radiance``. The vector path sums
+thermal emission, a bidirectional surface. The vector path sums
 every Fourier term that the moments carry (up to ``streams - 1``): ``fourier_tolerance``
 and ``max_fourier_terms`` do not apply to it.
 """
@@ -77,9 +77,6 @@ def check_polarized(options: Options, sources: ThermalSources,
         (sources.thermal, "thermal emission", "solve the thermal part with stokes=1"),
         (surface is not None, "a bidirectional surface", "use surface_albedo"),
     ]
-    top = options.top_diffuse_radiance
-    if top.chunks is not None or np.any(np.asarray(top.values) != 0.0):
-        refused.append((True, "top_diffuse_radiance", "leave it 0"))
     for wrong, what, hint in refused:
         if wrong:
             raise ValueError(f"stokes > 1 does not support {what} yet; {hint} (or stokes=1)")
@@ -235,8 +232,9 @@ def _solve(block: Block, layers: Layers, matrix: np.ndarray, settings: BlockSett
     solve_vector_columns(
         layers.optical_depth, np.ascontiguousarray(layers.single_scattering_albedo), matrix,
         block.beam_cosines, np.ascontiguousarray(block.sun_irradiance, dtype=np.float64),
-        np.ascontiguousarray(block.surface_albedo, dtype=np.float64), mu, weights, azimuth,
-        cosines, np.ascontiguousarray(positions.layer, dtype=np.intp),
+        np.ascontiguousarray(block.surface_albedo, dtype=np.float64),
+        np.ascontiguousarray(block.top_diffuse_radiance, dtype=np.float64), mu, weights,
+        azimuth, cosines, np.ascontiguousarray(positions.layer, dtype=np.intp),
         np.ascontiguousarray(positions.fraction, dtype=np.float64), stokes, quadrature,
         radiance, flux_up, flux_down, mean, status)
     failed = np.flatnonzero(status[:, 0])
