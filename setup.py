@@ -7,8 +7,10 @@ that the kernel declares every LAPACK integer through one typedef that matches t
 built against.
 
 The kernel is the package ``lamina._kernel``: one extension per stage module (``layers``,
-``boundary``, ``sources``, ``driver``); ``common.pxd`` is declarations and inline helpers
-only and needs no extension of its own.
+``boundary``, ``sources``, ``driver``, and the vector kernel's ``vector_layers``,
+``vector_boundary``, ``vector_sources``, ``vector_driver``); ``common.pxd`` and
+``vector_common.pxd`` are declarations and inline helpers only and need no extension of
+their own.
 """
 
 from pathlib import Path
@@ -22,6 +24,8 @@ HERE = Path(__file__).parent
 SOURCES = HERE / "src"
 KERNEL = SOURCES / "lamina" / "_kernel"
 STAGES = ("layers", "boundary", "sources", "driver")
+# the Stokes-vector kernel (issue 13): its own stages, sharing only common.pxd's constants
+VECTOR_STAGES = ("vector_layers", "vector_boundary", "vector_sources", "vector_driver")
 
 
 def write_lapack_int_pxd() -> None:
@@ -47,7 +51,7 @@ extensions = [
         define_macros=[("NPY_NO_DEPRECATED_API", "NPY_1_7_API_VERSION")],
         extra_compile_args=["-O3"],
     )
-    for stage in STAGES
+    for stage in STAGES + VECTOR_STAGES
 ]
 
 setup(

@@ -31,6 +31,13 @@ from lamina._solver.options import check_options
 from lamina._solver.outputs import assemble
 from lamina._solver.phase_checks import warn_about_phase_functions
 from lamina._solver.planet_geometry import level_radii
+from lamina._solver.polarized import (
+    check_polarized,
+    check_stokes,
+    describe_polarized,
+    polarized_plan,
+    solve_polarized,
+)
 from lamina._solver.scaling import scale_layers
 from lamina._solver.surface_terms import check_surface, surface_arrays
 from lamina._solver.thermal_sources import planck_sources
@@ -70,6 +77,7 @@ def solve(
     surface: object = None,
     planet_radius: object = None,
     molar_mass: float | None = None,
+    stokes: int = 1,
 ) -> xr.Dataset:
     """Radiances, fluxes and mean intensities in a layered plane-parallel atmosphere.
 
@@ -179,6 +187,17 @@ def solve(
     molar_mass : float, optional
         Mean molar mass of the gas in kg mol-1 for the hypsometric altitudes (default dry
         air, 0.0289644); only with ``planet_radius`` and an atmosphere without altitudes.
+    stokes : {1, 3, 4}
+        1 (default): the scalar solver. 3 solves for the Stokes components I, Q, U, 4 adds
+        V, with the atmosphere's ``scattering_matrix_moments`` (a layer given only
+        ``phase_moments`` scatters without polarizing): ``radiance`` gains a dim ``stokes``
+        (labels "I", "Q", "U", "V"; Q and U referred to the meridian plane of the direction
+        of propagation, Q > 0 parallel to it), with ``degree_of_polarization`` and
+        ``angle_of_linear_polarization``; fluxes and mean intensity are those of I. The
+        single-scattering correction uses the full matrix, the aureole correction adds
+        unpolarized light to I, ``top_diffuse_radiance`` is unpolarized. Not yet with
+        thermal emission or a bidirectional surface (ValueError); every Fourier term up to
+        ``streams - 1`` is summed.
 
     Returns
     -------
@@ -209,10 +228,15 @@ def solve(
         max_fourier_terms=max_fourier_terms, gravity=gravity, heat_capacity=heat_capacity,
         spherical=radius is not None,
     )
+    stokes = check_stokes(stokes)
     sources = planck_sources(atmosphere, wavenumber_band, wavenumber, surface_temperature)
     bidirectional = surface_arrays(surface, options, sources.thermal)
+    if stokes > 1:
+        check_polarized(options, sources, bidirectional, spherical=radius is not None)
     # plan
     plan = plan_blocks(atmosphere, options, sources, bidirectional, radius)
+    if stokes > 1:
+        plan = polarized_plan(plan, atmosphere, stokes)
     # apply over blocks
     results = xr.apply_ufunc(
         _solve_block, *plan.inputs,
@@ -225,7 +249,8 @@ def solve(
         keep_attrs=False,
     )
     # describe
-    return assemble(results, plan.output_names, atmosphere, options, sources, plan.settings)
+    out = assemble(results, plan.output_names, atmosphere, options, sources, plan.settings)
+    return describe_polarized(out, stokes) if stokes > 1 else out
 
 
 def _solve_block(
@@ -245,9 +270,11 @@ def _solve_block(
 
     ``more``: the arrays of a bidirectional surface (``_solver.surface_terms``), if any,
     then the level radii of a curved planet (``settings.spherical``), then per-pixel view
-    zenith and azimuth, if given so.
+    zenith and azimuth, if given so; with ``stokes`` > 1 the scattering matrix
+    (``_solver.polarized``) comes last.
     """
     more = list(more)
+    matrix = more.pop() if settings.stokes > 1 else None
     views = tuple(more[-2:]) if settings.views.per_pixel else ()
     if views:
         del more[-2:]
@@ -258,8 +285,16 @@ def _solve_block(
     warn_about_phase_functions(block, settings)
     layers = scale_layers(block.optical_depth, block.single_scattering_albedo,
                           block.phase_moments, settings.streams, settings.delta_m)
-    fields = solve_block(block, layers, settings)
+    if matrix is None:
+        fields = solve_block(block, layers, settings)
+    else:
+        fields = solve_polarized(block, layers, matrix, settings)
     depth = unscale_direct_beam(block, layers, settings.positions, fields)
-    if settings.views.wanted:
+    if settings.views.wanted and matrix is None:
         fields.radiance = correct_radiance(block, layers, settings, fields.radiance)
+    elif settings.views.wanted:
+        # I takes the scalar corrections (alpha1 is the phase function); the polarized solve
+        # step has corrected Q and U with the matrix
+        fields.radiance[..., 0] = correct_radiance(block, layers, settings,
+                                                   fields.radiance[..., 0])
     return pack_block(block, fields, depth, settings.views.wanted)

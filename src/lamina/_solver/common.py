@@ -173,6 +173,8 @@ class BlockSettings:
     #: True for a pseudo-spherical beam (solve(planet_radius=)): the level radii are the
     #: last block input
     spherical: bool = False
+    #: Stokes components solved (1: the scalar kernel; 3, 4: ``polarized``)
+    stokes: int = 1
 
 
 @dataclass(frozen=True, eq=False)

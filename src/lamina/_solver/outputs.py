@@ -154,7 +154,9 @@ def _variables(units: OutputUnits) -> dict[str, tuple[str, str, str | None]]:
         "actinic_flux": ("actinic flux 4 pi J", flux, None),
         "radiance": ("radiance at the view angles", radiance, None),
         "reflectance": ("bidirectional reflectance factor pi I / (mu0 S) of the upward "
-                        "radiance at the top (NaN where S = 0)", "1", None),
+                        "radiance at the top (NaN where S = 0; with stokes > 1 per Stokes "
+                        "component, pi Q / (mu0 S) the polarized reflectance and so on)", "1",
+                        None),
         "flux_divergence": ("radiative energy absorbed per layer: net downward flux at its "
                             "top minus at its bottom", flux, None),
         "heating_rate": ("radiative heating rate (g / c_p) (F_net,top - F_net,bottom) / "
