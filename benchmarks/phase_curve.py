@@ -22,12 +22,16 @@ from __future__ import annotations
 
 import argparse
 import os
-import time
+import sys
+from pathlib import Path
 
 import numpy as np
 
 import lamina
 from lamina.planet import disk_nodes
+
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from run import interleaved, wall  # noqa: E402
 
 
 def atmosphere(wavelengths: int):
@@ -51,12 +55,6 @@ def radiance_run(atm, angles: np.ndarray, streams: int) -> None:
                      output_levels=[0])
 
 
-def timed(function) -> float:
-    start = time.perf_counter()
-    function()
-    return time.perf_counter() - start
-
-
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     parser.add_argument("--rounds", type=int, default=5)
@@ -72,10 +70,7 @@ def main() -> None:
     }
     for run in runs.values():   # warm-up (imports, caches)
         run()
-    times = {name: [] for name in runs}
-    for _ in range(args.rounds):
-        for name, run in runs.items():
-            times[name].append(timed(run))
+    times = interleaved({name: wall(run) for name, run in runs.items()}, args.rounds)
     ratios = np.asarray(times["phase_curve"]) / np.asarray(times["radiance run"])
     print(f"phase curve / radiance run of its local geometries: 20 phase angles, 3 layers, "
           f"32 moments, {streams} streams, {args.wavelengths} wavelength(s), {args.rounds} "

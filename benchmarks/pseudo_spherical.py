@@ -15,22 +15,22 @@ from __future__ import annotations
 import argparse
 import os
 import sys
-import time
 from pathlib import Path
 
 import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-from run import SUN_ZENITH, VIEW_AZIMUTH, VIEW_ZENITH, random_atmosphere  # noqa: E402
+from run import (  # noqa: E402
+    SUN_ZENITH,
+    VIEW_AZIMUTH,
+    VIEW_ZENITH,
+    interleaved,
+    random_atmosphere,
+    wall,
+)
 
 import lamina  # noqa: E402
-
-
-def timed(function) -> float:
-    start = time.perf_counter()
-    function()
-    return time.perf_counter() - start
 
 
 def main() -> None:
@@ -52,10 +52,7 @@ def main() -> None:
                                                                **o))(options)
     for run in runs.values():   # warm-up (imports, caches)
         run()
-    times = {key: [] for key in runs}
-    for _ in range(args.rounds):
-        for key, run in runs.items():
-            times[key].append(timed(run))
+    times = interleaved({name: wall(run) for name, run in runs.items()}, args.rounds)
     print(f"pseudo-spherical / plane-parallel beam: {args.columns} columns, {layers} layers, "
           f"16 streams, {args.rounds} rounds, load average {os.getloadavg()[0]:.1f}")
     for name in cases:

@@ -17,14 +17,20 @@ from __future__ import annotations
 
 import argparse
 import sys
-import time
 from pathlib import Path
 
 import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-from run import SUN_ZENITH, VIEW_AZIMUTH, VIEW_ZENITH, random_atmosphere  # noqa: E402
+from run import (  # noqa: E402
+    SUN_ZENITH,
+    VIEW_AZIMUTH,
+    VIEW_ZENITH,
+    interleaved,
+    random_atmosphere,
+    wall,
+)
 
 import lamina  # noqa: E402
 
@@ -34,12 +40,6 @@ SURFACES = {
     "cox_munk (5 m/s)": lambda: lamina.surface.cox_munk(5.0),
     "hapke": lambda: lamina.surface.hapke(0.5, -0.2, 0.8, 0.06),
 }
-
-
-def timed(function) -> float:
-    start = time.perf_counter()
-    function()
-    return time.perf_counter() - start
 
 
 def main() -> None:
@@ -57,10 +57,7 @@ def main() -> None:
         runs[name] = (lambda s: lambda: lamina.solve(atmosphere, surface=s, **common))(surface)
     for run in runs.values():   # warm-up (imports, caches)
         run()
-    times = {name: [] for name in runs}
-    for _ in range(args.rounds):
-        for name, run in runs.items():
-            times[name].append(timed(run))
+    times = interleaved({name: wall(run) for name, run in runs.items()}, args.rounds)
     base = np.asarray(times["lambertian"])
     print(f"radiances over a bidirectional surface / over a Lambertian one: {args.columns} "
           f"columns, {args.layers} layers, 16 streams, {len(VIEW_ZENITH)} x "

@@ -558,18 +558,26 @@ def _check_surface(ncol, n, nsun, nvz, nva, arrays):
     return True
 
 
-def _check_spherical(ncol, nsun, nlayer, slant, cosine):
-    """True for a pseudo-spherical beam; refuse half of it or mis-shaped arrays."""
-    if slant is None and cosine is None:
+def _keyword_group(names, arrays, expected):
+    """True if every array of an optional keyword group is given, False if none is; refuse
+    a partial group or a mis-shaped array (``expected``: the shapes, in order)."""
+    given = [array is not None for array in arrays]
+    if not any(given):
         return False
-    if slant is None or cosine is None:
-        raise ValueError("solve_columns: give both beam_slant_optical_depth and "
-                         "beam_layer_cosine, or neither")
-    for name, array, want in (("beam_slant_optical_depth", slant, (ncol, nsun, nlayer + 1)),
-                              ("beam_layer_cosine", cosine, (ncol, nsun, nlayer))):
+    if not all(given):
+        raise ValueError("solve_columns: give " + " and ".join(names) + " together or neither")
+    for name, array, want in zip(names, arrays, expected):
         shape = tuple(np.asarray(array).shape)
         if shape != want:
             raise ValueError(f"solve_columns: {name} has shape {shape}, expected {want}")
+    return True
+
+
+def _check_spherical(ncol, nsun, nlayer, slant, cosine):
+    """True for a pseudo-spherical beam; refuse half of it or mis-shaped arrays."""
+    if not _keyword_group(("beam_slant_optical_depth", "beam_layer_cosine"), (slant, cosine),
+                          ((ncol, nsun, nlayer + 1), (ncol, nsun, nlayer))):
+        return False
     if not np.all(np.asarray(cosine) > 0.0):
         raise ValueError("solve_columns: beam_layer_cosine must be positive")
     return True
@@ -577,17 +585,8 @@ def _check_spherical(ncol, nsun, nlayer, slant, cosine):
 
 def _check_column_views(ncol, nvz, nva, cosines, azimuths):
     """True for views of each column's own; refuse one without the other or a bad shape."""
-    if cosines is None and azimuths is None:
-        return False
-    if cosines is None or azimuths is None:
-        raise ValueError("solve_columns: give column_view_cosines and column_view_azimuths "
-                         "together or neither")
-    for name, array, want in (("column_view_cosines", cosines, (ncol, nvz)),
-                              ("column_view_azimuths", azimuths, (ncol, nva))):
-        shape = tuple(np.asarray(array).shape)
-        if shape != want:
-            raise ValueError(f"solve_columns: {name} has shape {shape}, expected {want}")
-    return True
+    return _keyword_group(("column_view_cosines", "column_view_azimuths"),
+                          (cosines, azimuths), ((ncol, nvz), (ncol, nva)))
 
 
 cdef void point_surface(Column *cl, Py_ssize_t col, Py_ssize_t nvz, Py_ssize_t nva,
