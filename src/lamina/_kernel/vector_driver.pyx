@@ -10,8 +10,11 @@ moment with a non-zero coefficient in some layer, at most nl - 1; the terms beyo
 exactly zero over a Lambertian surface):
 
 1. ``vector_homogeneous``: the kernels Z^m and the eigen-solution of every layer;
-2. ``vector_beam_geometry`` and ``vector_particular``: the beam's particular solutions;
-3. ``vector_boundary_values``: the mode coefficients; ``vector_levels``: the Stokes
+2. ``vector_beam_geometry`` and ``vector_particular``: the beam's particular solutions
+   (and in term 0 ``vector_homogeneous`` leaves the thermal one: a Planck source linear in
+   optical depth emits in I only);
+3. ``vector_boundary_values``: the mode coefficients (the Lambertian surface emits
+   (1 - A) B_surface in I); ``vector_levels``: the Stokes
    vectors at the quadrature cosines at every level;
 4. the term is added at the requested azimuths, I and Q with cos(m phi), U and V with
    sin(m phi) (lamina's azimuth convention, DEVELOPERS.md "Polarization");
@@ -82,6 +85,7 @@ cdef tuple allocate(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc):
         "vfield": nsun * (nlay + 1) * 2 * rows,
         "pfield": nsun * sz.npos * 2 * nn, "psrcu": sz.npos * nsun * rows,
         "psrcd": sz.npos * nsun * rows, "vpos": nsun * sz.npos * 2 * rows,
+        "b0": nlay, "b1": nlay, "yth": nlay * nn, "thv": 4 * rows,
     }
     arrays = {name: np.zeros(max(size, 1)) for name, size in sizes.items()}
     cdef dict at = {}
@@ -99,6 +103,10 @@ cdef tuple allocate(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc):
     ly.ttop = <double *><size_t>at["ttop"]
     ly.eb = <double *><size_t>at["eb"]
     ly.coef = <double *><size_t>at["coef"]
+    ly.b0 = <double *><size_t>at["b0"]
+    ly.b1 = <double *><size_t>at["b1"]
+    ly.yth = <double *><size_t>at["yth"]
+    sc.thv = <double *><size_t>at["thv"]
     sc.pp = <double *><size_t>at["pp"]
     sc.pm = <double *><size_t>at["pm"]
     sc.p0 = <double *><size_t>at["p0"]
@@ -310,6 +318,9 @@ def solve_vector_columns(
     const double[:, ::1] sun_irradiance,
     const double[::1] surface_albedo,
     const double[::1] top_radiance,
+    const double[:, ::1] planck_levels,
+    const double[::1] planck_surface,
+    bint thermal,
     const double[::1] quadrature_cosines,
     const double[::1] quadrature_weights,
     const double[::1] view_azimuth_radians,
@@ -330,7 +341,8 @@ def solve_vector_columns(
     """Fill the Stokes vectors at the quadrature cosines of a block of columns.
 
     Inputs are checked by the callers (``vector.vector_quadrature_radiance``,
-    ``lamina._solver.polarized``); moments are (column, layer, nl, 6), view cosines in
+    ``lamina._solver.polarized``); moments are (column, layer, nl, 6), the Planck radiance
+    (column, level) and (column,) of the surface (used when ``thermal``), view cosines in
     (0, 1] (may be empty), output positions as (layer, fraction of its optical thickness).
     Outputs: radiance at the quadrature cosines (column, sun, level, direction (0 up,
     1 down), cosine, azimuth, stokes), at the view cosines (column, sun, position,
@@ -371,6 +383,8 @@ def solve_vector_columns(
             or sun_irradiance.shape[0] != ncol or sun_irradiance.shape[1] != sz.nsun
             or sun_cosine.shape[0] != ncol or surface_albedo.shape[0] != ncol
             or top_radiance.shape[0] != ncol
+            or planck_levels.shape[0] != ncol or planck_levels.shape[1] != sz.nlayer + 1
+            or planck_surface.shape[0] != ncol
             or quadrature_weights.shape[0] != sz.n
             or tuple(np.shape(radiance)) != (ncol, sz.nsun, sz.nlayer + 1, 2, sz.n, nva,
                                              stokes)
@@ -394,6 +408,9 @@ def solve_vector_columns(
             cl.irradiance = &sun_irradiance[col, 0]
             cl.surface_albedo = surface_albedo[col]
             cl.top_radiance = top_radiance[col]
+            cl.planck = &planck_levels[col, 0]
+            cl.surface_planck = planck_surface[col]
+            cl.thermal = thermal
             for i in range(total):
                 (&radiance[col, 0, 0, 0, 0, 0, 0])[i] = 0.0
             if sz.nvz > 0:

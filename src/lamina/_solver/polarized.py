@@ -25,8 +25,10 @@ correction's light (the beam scattered several times inside the forward peak) is
 I only, as unpolarized: near the forward direction the scattering matrix of spheres tends
 to F11 times the identity (F12 -> 0, F22, F33, F44 -> F11; Hovenier, van der Mee and Domke
 2004, ch. 2), so the peak leaves the unpolarized beam unpolarized (an approximation for
-non-spherical particles). Not yet with ``stokes`` > 1 (ValueError naming the option):
-thermal emission, a bidirectional surface. The Fourier series stops as the scalar one
+non-spherical particles). Thermal emission (``wavenumber_band`` or ``wavenumber``) is
+unpolarized: the layers' Planck source in I (the kernel's linear-in-depth particular
+solution) and the Lambertian surface's (1 - A) B_surface in I. Not yet with ``stokes`` > 1
+(ValueError naming the option): a bidirectional surface. The Fourier series stops as the scalar one
 does (``fourier_tolerance`` relative to every component of every output Stokes vector,
 ``max_fourier_terms``; fluxes alone, or no beam, take term 0 only).
 """
@@ -74,7 +76,6 @@ def check_polarized(options: Options, sources: ThermalSources,
                     surface: SurfaceArrays | None, spherical: bool = False) -> None:
     """ValueError for what the vector path does not do yet (module docstring)."""
     refused = [
-        (sources.thermal, "thermal emission", "solve the thermal part with stokes=1"),
         (surface is not None, "a bidirectional surface", "use surface_albedo"),
         (spherical, "planet_radius (the pseudo-spherical beam)",
          "solve plane-parallel"),
@@ -240,7 +241,10 @@ def _solve(block: Block, layers: Layers, matrix: np.ndarray, settings: BlockSett
         layers.optical_depth, np.ascontiguousarray(layers.single_scattering_albedo), matrix,
         block.beam_cosines, np.ascontiguousarray(block.sun_irradiance, dtype=np.float64),
         np.ascontiguousarray(block.surface_albedo, dtype=np.float64),
-        np.ascontiguousarray(block.top_diffuse_radiance, dtype=np.float64), mu, weights,
+        np.ascontiguousarray(block.top_diffuse_radiance, dtype=np.float64),
+        np.ascontiguousarray(block.planck_levels, dtype=np.float64),
+        np.ascontiguousarray(block.planck_surface, dtype=np.float64), settings.thermal,
+        mu, weights,
         azimuth, cosines, np.ascontiguousarray(positions.layer, dtype=np.intp),
         np.ascontiguousarray(positions.fraction, dtype=np.float64), stokes, max_terms,
         settings.fourier_tolerance, quadrature, radiance, flux_up, flux_down, mean, terms,
