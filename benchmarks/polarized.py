@@ -12,7 +12,8 @@ The floor is the LAPACK work the vector kernel does, timed through
 ``scipy.linalg.lapack`` on matrices of the run's sizes (nn = streams / 2 * stokes) in the
 same rounds: per column, Fourier term and layer one dgeev and one dgetrf of order nn, one
 dgetrs with nn right-hand sides and one dgesv of order 2 nn (the beam's particular
-solution); per column and term one banded dgbtrf of order 2 nn L. (The Python call costs a
+solution); per column and term one banded dgbtrf of order 2 nn L, for the terms the run
+solved (its ``fourier_terms``). (The Python call costs a
 few microseconds, small beside these.) dgeev is the unavoidable part; the dgesv of the
 particular solution could give way to the eigen-decomposition already at hand, which
 would lower the floor and show the rest of the kernel's work. Prints ratios, not
@@ -45,8 +46,12 @@ def timed(function) -> float:
     return time.perf_counter() - start
 
 
-def floor(columns: int, layers: int, stokes: int, rng) -> float:
-    """Seconds of the LAPACK calls of a vector run (module docstring), timed once each."""
+def floor(terms: int, layers: int, stokes: int, rng) -> float:
+    """Seconds of the LAPACK calls of a vector run (module docstring), timed once each.
+
+    ``terms``: the Fourier terms the run solved, summed over its columns (the series stops
+    at ``fourier_tolerance``).
+    """
     nn = STREAMS // 2 * stokes
     matrix = np.eye(nn) + 0.1 * rng.standard_normal((nn, nn))
     big = np.eye(2 * nn) + 0.1 * rng.standard_normal((2 * nn, 2 * nn))
@@ -63,7 +68,7 @@ def floor(columns: int, layers: int, stokes: int, rng) -> float:
     per_layer += timed(lambda: [lapack.dgetrs(lu, piv, rhs) for _ in range(repeats)])
     per_layer += timed(lambda: [lapack.dgesv(big, beam) for _ in range(repeats)])
     per_term = timed(lambda: lapack.dgbtrf(banded, band, band))
-    return columns * STREAMS * (layers * per_layer / repeats + per_term)
+    return terms * (layers * per_layer / repeats + per_term)
 
 
 def main() -> None:
@@ -79,8 +84,8 @@ def main() -> None:
                   view_azimuth=VIEW_AZIMUTH, surface_albedo=0.1)
     runs = {stokes: (lambda s: lambda: lamina.solve(atmosphere, stokes=s, **common))(stokes)
             for stokes in (1, 3, 4)}
-    for run in runs.values():   # warm-up (imports, caches)
-        run()
+    # warm-up (imports, caches), and the Fourier terms each vector run solves
+    terms = {stokes: int(run().fourier_terms.sum()) for stokes, run in runs.items()}
     rng = np.random.default_rng(1)
     times = {stokes: [] for stokes in runs}
     floors = {stokes: [] for stokes in (3, 4)}
@@ -88,9 +93,10 @@ def main() -> None:
         for stokes, run in runs.items():
             times[stokes].append(timed(run))
             if stokes > 1:
-                floors[stokes].append(floor(args.columns, args.layers, stokes, rng))
+                floors[stokes].append(floor(terms[stokes], args.layers, stokes, rng))
     print(f"{args.columns} columns x {args.layers} layers, {STREAMS} streams, one sun, 3 x 3 "
-          f"views, {args.rounds} rounds; scalar best round {min(times[1]):.2f} s")
+          f"views, {args.rounds} rounds; scalar best round {min(times[1]):.2f} s; Fourier "
+          f"terms solved (all columns) {terms}")
     for stokes in (3, 4):
         to_scalar = np.array(times[stokes]) / np.array(times[1])
         to_floor = np.array(times[stokes]) / np.array(floors[stokes])

@@ -249,3 +249,67 @@ def test_what_the_polarized_path_does_not_do_yet_is_refused_by_name():
     with pytest.raises(ValueError, match="stokes > 1 does not support per-pixel view angles"):
         lamina.solve(pixels, view_zenith=xr.DataArray([10.0, 20.0], dims="pixel"),
                      **common)
+
+
+# ---------------------------------------------------------------- the Fourier series
+
+
+def _hazy_atmosphere():
+    return lamina.make_atmosphere([0.2, 0.8], [1.0, 0.95],
+                                  scattering_matrix_moments=[rayleigh_matrix(), _aerosol(24)])
+
+
+@pytest.mark.parametrize("tolerance", [1e-2, 1e-4])
+def test_fourier_tolerance_stops_the_series_to_about_the_tolerance(tolerance):
+    # the scalar criterion (two successive terms changing every component of every output
+    # by at most the tolerance of itself) on a Mie aerosol's forward peak: fewer terms than
+    # the moments carry, and the result within a few times the tolerance of the all-terms
+    # sum (common practice: the tail after two small terms is of the order of the last one)
+    kwargs = dict(streams=24, sun_zenith=[40.0], surface_albedo=0.1, view_zenith=VIEW,
+                  view_azimuth=AZIMUTH, stokes=4, delta_m=False, **OFF)
+    every = lamina.solve(_hazy_atmosphere(), fourier_tolerance=1e-300, **kwargs)
+    early = lamina.solve(_hazy_atmosphere(), fourier_tolerance=tolerance, **kwargs)
+    assert int(every.fourier_terms) == 24
+    assert 3 < int(early.fourier_terms) < 24
+    difference = np.abs(early.radiance - every.radiance)
+    scale = float(np.abs(every.radiance.sel(stokes="I")).max())
+    assert float(difference.max()) < 3.0 * tolerance * scale
+    # and not an artefact of a loose measure: a tighter tolerance sums more terms
+    tighter = lamina.solve(_hazy_atmosphere(), fourier_tolerance=tolerance / 100, **kwargs)
+    assert int(tighter.fourier_terms) > int(early.fourier_terms)
+
+
+def test_one_fourier_term_is_the_azimuthal_average():
+    # max_fourier_terms=1: I and Q are the average over azimuth of the full solution (the
+    # mean of a trigonometric polynomial of degree < 32 over 32 equally spaced azimuths is
+    # exact), U and V average to zero (sine series)
+    azimuths = np.arange(32) * 360.0 / 32
+    kwargs = dict(streams=16, sun_zenith=[40.0], surface_albedo=0.1, view_zenith=VIEW,
+                  stokes=4, delta_m=False, fourier_tolerance=1e-300, **OFF)
+    every = lamina.solve(_hazy_atmosphere(), view_azimuth=azimuths, **kwargs)
+    first = lamina.solve(_hazy_atmosphere(), view_azimuth=[0.0, 77.0], max_fourier_terms=1,
+                         **kwargs)
+    assert int(first.fourier_terms) == 1
+    average = every.radiance.mean("view_azimuth")
+    scale = float(np.abs(average.sel(stokes="I")).max())
+    for azimuth in (0.0, 77.0):
+        got = first.radiance.sel(view_azimuth=azimuth)
+        np.testing.assert_allclose(got.sel(stokes=["I", "Q"]), average.sel(stokes=["I", "Q"]),
+                                   rtol=0, atol=1e-13 * scale)
+        assert float(np.abs(got.sel(stokes=["U", "V"])).max()) == 0.0
+
+
+@pytest.mark.parametrize("views", [True, False])
+def test_without_a_beam_one_fourier_term_is_solved(views):
+    # an isotropic radiance on the top is azimuth-independent: term 0 is the whole
+    # solution; with a beam the Rayleigh matrix's three terms (l <= 2) are summed when
+    # radiances are wanted, one for fluxes alone
+    atmosphere = lamina.make_atmosphere([0.5], [1.0],
+                                        scattering_matrix_moments=[rayleigh_matrix()])
+    kwargs = dict(streams=8, stokes=3, **OFF)
+    if views:
+        kwargs.update(view_zenith=VIEW, view_azimuth=AZIMUTH)
+    diffuse = lamina.solve(atmosphere, top_diffuse_radiance=1.0, **kwargs)
+    assert int(diffuse.fourier_terms) == 1
+    beam = lamina.solve(atmosphere, sun_zenith=30.0, **kwargs)
+    assert int(beam.fourier_terms) == (3 if views else 1)

@@ -195,9 +195,12 @@ def solve(
         of propagation, Q > 0 parallel to it), with ``degree_of_polarization`` and
         ``angle_of_linear_polarization``; fluxes and mean intensity are those of I. The
         single-scattering correction uses the full matrix, the aureole correction adds
-        unpolarized light to I, ``top_diffuse_radiance`` is unpolarized. Not yet with
-        thermal emission or a bidirectional surface (ValueError); every Fourier term up to
-        ``streams - 1`` is summed.
+        unpolarized light to I, ``top_diffuse_radiance`` is unpolarized, thermal emission
+        (``wavenumber_band`` or ``wavenumber``: the layers' Planck source and the surface's
+        (1 - ``surface_albedo``) B) is unpolarized at its source. ``fourier_tolerance``
+        applies to every Stokes component of every output, ``max_fourier_terms`` as for
+        ``stokes=1``. Not yet with a bidirectional surface, ``planet_radius`` or per-pixel
+        view angles (ValueError).
 
     Returns
     -------

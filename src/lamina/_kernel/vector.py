@@ -167,11 +167,13 @@ def vector_quadrature_radiance(
     flux_down = np.zeros((1, nsun, nlev))
     mean = np.zeros((1, nsun, nlev))
     status = np.zeros((1, 4), dtype=np.int64)
+    terms = np.zeros(1, dtype=np.int64)
     irradiance = np.full((1, nsun), float(sun_irradiance))
     solve_vector_columns(tau[None], albedo[None], used[None], mu0[None].copy(), irradiance,
-                         np.array([surface]), np.zeros(1), mu, wq, np.deg2rad(phi), views,
-                         position_layer, position_fraction, stokes, radiance, view_radiance,
-                         flux_up, flux_down, mean, status)
+                         np.array([surface]), np.zeros(1), np.zeros((1, nlev)), np.zeros(1),
+                         False, mu, wq, np.deg2rad(phi), views,
+                         position_layer, position_fraction, stokes, nl, 0.0, radiance,
+                         view_radiance, flux_up, flux_down, mean, terms, status)
     code, layer, term, info = (int(v) for v in status[0])
     if code:
         raise RuntimeError(

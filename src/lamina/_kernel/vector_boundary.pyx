@@ -10,7 +10,9 @@ referred to the boundary it decays away from, so that every exponential is <= 1
 isotropic unpolarized radiance: I of term 0), continuity of all Stokes components at every
 quadrature cosine at every interface, and at the bottom a Lambertian depolarizing surface:
 in term 0 the upward I at mu_i is sum_j 2 A w_j mu_j I-(mu_j) plus
-A mu0 S exp(-tau / mu0) / pi, and the surface reflects neither Q, U, V nor any term m > 0.
+A mu0 S exp(-tau / mu0) / pi (and with thermal emission (1 - A) B_surface), and the
+surface reflects neither Q, U, V nor any term m > 0. The layers' thermal particular
+solutions (term 0, vector_layers) enter every condition as the beam's do.
 The system has 2 nn L equations with kl = ku = 3 nn - 1 (nn = n * stokes), solved by banded
 LU (dgbtrf/dgbtrs), one factorisation for all sun angles. ``vector_levels`` then evaluates
 the term's Stokes vectors at the quadrature cosines at every level.
@@ -30,7 +32,7 @@ from lamina._kernel._lapack_int cimport lapack_int
 from lamina._kernel.common cimport PI
 from lamina._kernel.vector_common cimport (
     VSTATUS_BAND_FACTOR, VSTATUS_BAND_SOLVE, VectorColumn, VectorLayers, VectorScratch,
-    VectorSizes, basis_value, mode_factors,
+    VectorSizes, basis_value, mode_factors, thermal_value,
 )
 
 
@@ -92,11 +94,14 @@ cdef void sources(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc, VectorCo
     cdef double *coef = ly.coef + sun * neq
     cdef const double *z = ly.zp + sun * 2 * nn
     cdef const double *z2
-    cdef double eb, reflected = 0.0, beam = 0.0, total = 0.0
+    cdef double eb, reflected = 0.0, beam = 0.0, total = 0.0, emission = 0.0
+    cdef bint thermal = cl.thermal and mode == 0
     for c in range(nn):
         coef[c] = -z[nn + c]
         if mode == 0 and c % ns == 0:
             coef[c] = coef[c] + cl.top_radiance
+        if thermal:
+            coef[c] = coef[c] - thermal_value(sz, ly, 0, nn + c, 0.0)
     for layer in range(sz.nlayer - 1):
         z = ly.zp + (layer * nsun + sun) * 2 * nn
         z2 = ly.zp + ((layer + 1) * nsun + sun) * 2 * nn
@@ -104,22 +109,31 @@ cdef void sources(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc, VectorCo
         row = nn + 2 * nn * layer
         for c in range(2 * nn):
             coef[row + c] = z2[c] - z[c] * eb
+            if thermal:
+                coef[row + c] = coef[row + c] + thermal_value(sz, ly, layer + 1, c, 0.0) \
+                    - thermal_value(sz, ly, layer, c, cl.tau[layer])
     z = ly.zp + (last * nsun + sun) * 2 * nn
     eb = ly.eb[last * nsun + sun]
     if reflects:
         for i in range(sz.n):
             reflected = reflected + sc.refl[i] * z[nn + i * ns] * eb
+            if thermal:
+                reflected = reflected + sc.refl[i] \
+                    * thermal_value(sz, ly, last, nn + i * ns, cl.tau[last])
     if mode == 0:
         for layer in range(sz.nlayer):
             total = total + cl.tau[layer]
         beam = cl.surface_albedo / PI * sc.mu0e[sun] * cl.irradiance[sun] \
             * exp(-total / sc.mu0e[sun])
+    if thermal:
+        emission = (1.0 - cl.surface_albedo) * cl.surface_planck
     row = neq - nn
     for c in range(nn):
+        coef[row + c] = -z[c] * eb
+        if thermal:
+            coef[row + c] = coef[row + c] - thermal_value(sz, ly, last, c, cl.tau[last])
         if c % ns == 0:
-            coef[row + c] = beam - (z[c] * eb - reflected)
-        else:
-            coef[row + c] = -z[c] * eb
+            coef[row + c] = coef[row + c] + beam + emission + reflected
 
 
 cdef int vector_boundary_values(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
@@ -183,6 +197,8 @@ cdef void field_at(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly, VectorC
             beam = exp(-t / sc.mu0e[s])
         for c in range(n2):
             value = z[c] * beam
+            if cl.thermal and sc.mode == 0:
+                value = value + thermal_value(sz, ly, layer, c, t)
             for j in range(nn):
                 value = value + coef[j] * column_value(sz, ly, sc, layer, c, j, False) \
                     + coef[nn + j] * column_value(sz, ly, sc, layer, c, j, True)

@@ -62,6 +62,9 @@ cdef struct VectorColumn:
     const double *irradiance   # [sun]
     double surface_albedo
     double top_radiance        # isotropic unpolarized radiance falling on the top (term 0, I)
+    const double *planck       # [layer + 1] Planck radiance at the levels (thermal only)
+    double surface_planck      # Planck radiance of the surface's temperature
+    bint thermal               # thermal emission in I of term 0 (layers and surface)
 
 
 cdef struct VectorLayers:
@@ -76,6 +79,12 @@ cdef struct VectorLayers:
     double *ttop       # [layer][sun] beam transmittance to the layer top
     double *eb         # [layer][sun] exp(-tau / mu0) across the layer
     double *coef       # [sun][2 nn layer] boundary-value solution (C, D per layer)
+    # thermal emission (term 0): the Planck source B0 + B1 t of each layer (t the depth
+    # below its top) and y+ = (A + B D)^-1 (mu_i in the I rows); the particular solution
+    # is (B0 + B1 t) e1 + B1 (y+, -D y+) (``thermal_value``)
+    double *b0         # [layer]
+    double *b1         # [layer]
+    double *yth        # [layer][nn]
 
 
 cdef struct VectorScratch:
@@ -124,6 +133,7 @@ cdef struct VectorScratch:
     double *psrcu     # [pos][sun][nvz ns] source integrated from the layer bottom up to it
     double *psrcd     # [pos][sun][nvz ns] from the layer top down to it
     double *vpos      # [sun][pos][2][nvz ns] the term's Stokes vectors at the views
+    double *thv       # [4][nvz ns] a layer's thermal source a + c t at the views (a, c up; down)
     Py_ssize_t mode   # the Fourier term being solved
     double *work
     lapack_int lwork
@@ -136,6 +146,20 @@ cdef struct VectorScratch:
 cdef inline double stokes_sign(Py_ssize_t s) noexcept nogil:
     """D = diag(1, 1, -1, -1): the sign of component s under mu -> -mu."""
     return -1.0 if s >= 2 else 1.0
+
+
+cdef inline double thermal_value(VectorSizes *sz, VectorLayers *ly, Py_ssize_t layer,
+                                 Py_ssize_t c, double t) noexcept nogil:
+    """Component c (0 .. 2 nn - 1, up then down) of a layer's thermal particular solution.
+
+    (B0 + B1 t) e1 + B1 (y+, -D y+) at depth t below the layer top (see VectorLayers).
+    """
+    cdef Py_ssize_t r = c if c < sz.nn else c - sz.nn
+    cdef double b1 = ly.b1[layer], y = ly.yth[layer * sz.nn + r]
+    cdef double value = b1 * y if c < sz.nn else -stokes_sign(r % sz.ns) * b1 * y
+    if r % sz.ns == 0:
+        value = value + ly.b0[layer] + b1 * t
+    return value
 
 
 cdef inline void mode_factors(VectorSizes *sz, VectorLayers *ly, Py_ssize_t layer, double t,

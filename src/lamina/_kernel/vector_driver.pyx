@@ -1,6 +1,6 @@
 # cython: language_level=3, boundscheck=False, wraparound=False, cdivision=True
 # cython: initializedcheck=False
-"""Stokes-vector discrete ordinates: many columns, all Fourier terms, no GIL.
+"""Stokes-vector discrete ordinates: many columns, the Fourier series, no GIL.
 
 Method: the discrete-ordinate solution for polarized light of Siewert (1981, 2000), with
 the phase matrix's Fourier decomposition of de Haan, Bosma and Hovenier (1987)
@@ -10,18 +10,24 @@ moment with a non-zero coefficient in some layer, at most nl - 1; the terms beyo
 exactly zero over a Lambertian surface):
 
 1. ``vector_homogeneous``: the kernels Z^m and the eigen-solution of every layer;
-2. ``vector_beam_geometry`` and ``vector_particular``: the beam's particular solutions;
-3. ``vector_boundary_values``: the mode coefficients; ``vector_levels``: the Stokes
+2. ``vector_beam_geometry`` and ``vector_particular``: the beam's particular solutions
+   (and in term 0 ``vector_homogeneous`` leaves the thermal one: a Planck source linear in
+   optical depth emits in I only);
+3. ``vector_boundary_values``: the mode coefficients (the Lambertian surface emits
+   (1 - A) B_surface in I); ``vector_levels``: the Stokes
    vectors at the quadrature cosines at every level;
 4. the term is added at the requested azimuths, I and Q with cos(m phi), U and V with
-   sin(m phi) (lamina's azimuth convention, DEVELOPERS.md "Polarization").
+   sin(m phi) (lamina's azimuth convention, DEVELOPERS.md "Polarization");
+5. convergence, as in the scalar driver: the series stops after two successive terms that
+   change no output (every component of every Stokes vector at the view cosines, or at the
+   quadrature cosines when no view cosine is given) by more than the tolerance relative to
+   its accumulated value, and after at most ``max_fourier_terms`` terms.
 
-The albedo is capped at 1 - CONSERVATIVE_GAP as in the scalar kernel. Radiances at view
-cosines other than the quadrature cosines (source-function integration), thermal emission
-and bidirectional surfaces are not here yet (DEVELOPERS.md, "Polarization").
+The albedo is capped at 1 - CONSERVATIVE_GAP as in the scalar kernel. Bidirectional
+surfaces are not here yet (DEVELOPERS.md, "Polarization").
 """
 
-from libc.math cimport cos, isfinite, sin
+from libc.math cimport cos, fabs, isfinite, sin
 from scipy.linalg.cython_lapack cimport dgeev
 
 from lamina._kernel._lapack_int cimport lapack_int
@@ -79,6 +85,7 @@ cdef tuple allocate(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc):
         "vfield": nsun * (nlay + 1) * 2 * rows,
         "pfield": nsun * sz.npos * 2 * nn, "psrcu": sz.npos * nsun * rows,
         "psrcd": sz.npos * nsun * rows, "vpos": nsun * sz.npos * 2 * rows,
+        "b0": nlay, "b1": nlay, "yth": nlay * nn, "thv": 4 * rows,
     }
     arrays = {name: np.zeros(max(size, 1)) for name, size in sizes.items()}
     cdef dict at = {}
@@ -96,6 +103,10 @@ cdef tuple allocate(VectorSizes *sz, VectorLayers *ly, VectorScratch *sc):
     ly.ttop = <double *><size_t>at["ttop"]
     ly.eb = <double *><size_t>at["eb"]
     ly.coef = <double *><size_t>at["coef"]
+    ly.b0 = <double *><size_t>at["b0"]
+    ly.b1 = <double *><size_t>at["b1"]
+    ly.yth = <double *><size_t>at["yth"]
+    sc.thv = <double *><size_t>at["thv"]
     sc.pp = <double *><size_t>at["pp"]
     sc.pm = <double *><size_t>at["pm"]
     sc.p0 = <double *><size_t>at["p0"]
@@ -158,51 +169,77 @@ cdef Py_ssize_t last_term(VectorSizes *sz, VectorColumn *cl) noexcept nogil:
     return top
 
 
-cdef void add_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode, const double *mu,
-                   const double *wq, const double *phi, Py_ssize_t nva, double *radiance,
-                   double *flux_up, double *flux_down, double *mean) noexcept nogil:
-    """Add term ``mode`` at the azimuths: radiance [sun][level][2][n][va][ns]."""
-    cdef Py_ssize_t nn = sz.nn, ns = sz.ns, n = sz.n, nlev = sz.nlayer + 1
-    cdef Py_ssize_t s, level, d, i, a, c
-    cdef double cm, sm
+cdef double add_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode, const double *mu,
+                     const double *wq, const double *phi, Py_ssize_t nva, double tolerance,
+                     double *radiance, double *flux_up, double *flux_down,
+                     double *mean) noexcept nogil:
+    """Add term ``mode`` at the azimuths: radiance [sun][level][2][n][va][ns].
+
+    Returns the term's change of the quadrature Stokes vectors (``term_change``).
+    """
+    cdef Py_ssize_t nn = sz.nn, nlev = sz.nlayer + 1
+    if mode == 0:
+        add_fluxes(sz, sc, mu, wq, flux_up, flux_down, mean)
+    return term_change(sz, sc.field, sz.nsun * nlev * 2, nn, sz.n, mode, phi, nva, tolerance,
+                       radiance)
+
+
+cdef double add_view_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode,
+                          const double *phi, Py_ssize_t nva, double tolerance,
+                          double *radiance) noexcept nogil:
+    """Add term ``mode`` at the view cosines: radiance [sun][position][2][vz][va][ns].
+
+    Returns the term's change of these Stokes vectors (``term_change``).
+    """
+    cdef Py_ssize_t rows = sz.nvz * sz.ns
+    return term_change(sz, sc.vpos, sz.nsun * sz.npos * 2, rows, sz.nvz, mode, phi, nva,
+                       tolerance, radiance)
+
+
+cdef double term_change(VectorSizes *sz, const double *term, Py_ssize_t nblock,
+                        Py_ssize_t stride, Py_ssize_t ncos, Py_ssize_t mode,
+                        const double *phi, Py_ssize_t nva, double tolerance,
+                        double *radiance) noexcept nogil:
+    """Add a term's Stokes vectors to ``radiance`` [block][cosine][va][ns]; its change.
+
+    ``term[b * stride + i * ns + c]`` is component c at cosine i of block b; I and Q take
+    cos(m phi), U and V sin(m phi). The change is the scalar driver's measure, max |term| /
+    max(|sum|, 1e-14 max |sum|) over every output and component (0 for term 0), made
+    exactly only when some output moved by more than ``tolerance`` of itself.
+    """
+    cdef Py_ssize_t ns = sz.ns, b, i, a, c
+    cdef double cm, sm, value, size, biggest = 0.0, change = 0.0, floor_value
+    cdef bint unsettled = False
     cdef const double *f
     cdef double *out
     for a in range(nva):
         cm = cos(mode * phi[a])
         sm = sin(mode * phi[a])
-        for s in range(sz.nsun):
-            for level in range(nlev):
-                f = sc.field + (s * nlev + level) * 2 * nn
-                for d in range(2):
-                    for i in range(n):
-                        out = radiance + ((((s * nlev + level) * 2 + d) * n + i) * nva + a) * ns
-                        for c in range(ns):
-                            out[c] = out[c] + f[d * nn + i * ns + c] * (cm if c < 2 else sm)
-    if mode != 0:
-        return
-    add_fluxes(sz, sc, mu, wq, flux_up, flux_down, mean)
-
-
-cdef void add_view_term(VectorSizes *sz, VectorScratch *sc, Py_ssize_t mode,
-                        const double *phi, Py_ssize_t nva, double *radiance) noexcept nogil:
-    """Add term ``mode`` at the view cosines: radiance [sun][position][2][vz][va][ns]."""
-    cdef Py_ssize_t ns = sz.ns, rows = sz.nvz * sz.ns, nlev = sz.npos
-    cdef Py_ssize_t s, level, d, u, a, c
-    cdef double cm, sm
-    cdef const double *f
-    cdef double *out
+        for b in range(nblock):
+            f = term + b * stride
+            for i in range(ncos):
+                out = radiance + ((b * ncos + i) * nva + a) * ns
+                for c in range(ns):
+                    value = f[i * ns + c] * (cm if c < 2 else sm)
+                    out[c] = out[c] + value
+                    size = fabs(out[c])
+                    biggest = max(biggest, size)
+                    if fabs(value) > tolerance * size:
+                        unsettled = True
+    if mode == 0 or not unsettled:
+        return 0.0
+    floor_value = 1e-300 + 1e-14 * biggest
     for a in range(nva):
         cm = cos(mode * phi[a])
         sm = sin(mode * phi[a])
-        for s in range(sz.nsun):
-            for level in range(nlev):
-                for d in range(2):
-                    f = sc.vpos + ((s * nlev + level) * 2 + d) * rows
-                    for u in range(sz.nvz):
-                        out = radiance \
-                            + ((((s * nlev + level) * 2 + d) * sz.nvz + u) * nva + a) * ns
-                        for c in range(ns):
-                            out[c] = out[c] + f[u * ns + c] * (cm if c < 2 else sm)
+        for b in range(nblock):
+            f = term + b * stride
+            for i in range(ncos):
+                out = radiance + ((b * ncos + i) * nva + a) * ns
+                for c in range(ns):
+                    value = fabs(f[i * ns + c] * (cm if c < 2 else sm))
+                    change = max(change, value / max(fabs(out[c]), floor_value))
+    return change
 
 
 cdef void add_fluxes(VectorSizes *sz, VectorScratch *sc, const double *mu, const double *wq,
@@ -228,14 +265,23 @@ cdef void add_fluxes(VectorSizes *sz, VectorScratch *sc, const double *mu, const
 
 cdef int solve_vector_column(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
                              VectorColumn *cl, const double *mu, const double *wq,
-                             const double *phi, Py_ssize_t nva, double *radiance,
-                             double *view_radiance, double *flux_up, double *flux_down,
-                             double *mean, long long *status) noexcept nogil:
-    """All Fourier terms of one column; 0, or a status code (with layer, term, info)."""
-    cdef Py_ssize_t mode, top = last_term(sz, cl), layer = -1
+                             const double *phi, Py_ssize_t nva, Py_ssize_t max_terms,
+                             double tolerance, double *radiance, double *view_radiance,
+                             double *flux_up, double *flux_down, double *mean,
+                             long long *terms, long long *status) noexcept nogil:
+    """The Fourier terms of one column; 0, or a status code (with layer, term, info).
+
+    Terms up to the last non-zero moment and at most ``max_terms``; the series stops after
+    two successive terms that each change every output (the view Stokes vectors, or the
+    quadrature ones when there are no view cosines) by at most ``tolerance`` of its
+    accumulated value (the scalar driver's criterion). ``terms[0]``: the terms summed.
+    """
+    cdef Py_ssize_t mode, top = last_term(sz, cl), layer = -1, small_run = 0
     cdef lapack_int info = 0
     cdef int code
-    for mode in range(min(top, sz.nl - 1) + 1):
+    cdef double change
+    terms[0] = 0
+    for mode in range(min(min(top, sz.nl - 1) + 1, max(max_terms, 1))):
         sc.mode = mode
         code = vector_homogeneous(sz, sc, ly, cl, mu, wq, mode, &layer, &info)
         if code == 0:
@@ -251,10 +297,16 @@ cdef int solve_vector_column(VectorSizes *sz, VectorScratch *sc, VectorLayers *l
             status[3] = info
             return code
         vector_levels(sz, sc, ly, cl)
-        add_term(sz, sc, mode, mu, wq, phi, nva, radiance, flux_up, flux_down, mean)
+        terms[0] = mode + 1
+        change = add_term(sz, sc, mode, mu, wq, phi, nva, tolerance, radiance, flux_up,
+                          flux_down, mean)
         if sz.nvz > 0:
             vector_view_radiances(sz, sc, ly, cl, mode, mu, wq)
-            add_view_term(sz, sc, mode, phi, nva, view_radiance)
+            change = add_view_term(sz, sc, mode, phi, nva, tolerance, view_radiance)
+        if mode > 0:
+            small_run = small_run + 1 if change <= tolerance else 0
+            if small_run >= 2:
+                break
     return 0
 
 
@@ -266,6 +318,9 @@ def solve_vector_columns(
     const double[:, ::1] sun_irradiance,
     const double[::1] surface_albedo,
     const double[::1] top_radiance,
+    const double[:, ::1] planck_levels,
+    const double[::1] planck_surface,
+    bint thermal,
     const double[::1] quadrature_cosines,
     const double[::1] quadrature_weights,
     const double[::1] view_azimuth_radians,
@@ -273,23 +328,29 @@ def solve_vector_columns(
     const Py_ssize_t[::1] position_layer,
     const double[::1] position_fraction,
     Py_ssize_t stokes,
+    Py_ssize_t max_fourier_terms,
+    double fourier_tolerance,
     double[:, :, :, :, :, :, ::1] radiance,
     double[:, :, :, :, :, :, ::1] view_radiance,
     double[:, :, ::1] flux_up,
     double[:, :, ::1] flux_down,
     double[:, :, ::1] mean_intensity,
+    long long[::1] fourier_terms,
     long long[:, ::1] status,
 ):
     """Fill the Stokes vectors at the quadrature cosines of a block of columns.
 
     Inputs are checked by the callers (``vector.vector_quadrature_radiance``,
-    ``lamina._solver.polarized``); moments are (column, layer, nl, 6), view cosines in
+    ``lamina._solver.polarized``); moments are (column, layer, nl, 6), the Planck radiance
+    (column, level) and (column,) of the surface (used when ``thermal``), view cosines in
     (0, 1] (may be empty), output positions as (layer, fraction of its optical thickness).
     Outputs: radiance at the quadrature cosines (column, sun, level, direction (0 up,
     1 down), cosine, azimuth, stokes), at the view cosines (column, sun, position,
     direction, view cosine, azimuth, stokes), the diffuse I fluxes and mean intensity
-    (column, sun, position) and status (column, 4): code, layer, Fourier term, LAPACK info
-    (0 where the column was solved).
+    (column, sun, position), the Fourier terms summed (column; at most
+    ``max_fourier_terms``, fewer when the series converged to ``fourier_tolerance``: module
+    docstring) and status (column, 4): code, layer, Fourier term, LAPACK info (0 where the
+    column was solved).
     """
     cdef VectorSizes sz
     cdef VectorLayers ly
@@ -322,12 +383,15 @@ def solve_vector_columns(
             or sun_irradiance.shape[0] != ncol or sun_irradiance.shape[1] != sz.nsun
             or sun_cosine.shape[0] != ncol or surface_albedo.shape[0] != ncol
             or top_radiance.shape[0] != ncol
+            or planck_levels.shape[0] != ncol or planck_levels.shape[1] != sz.nlayer + 1
+            or planck_surface.shape[0] != ncol
             or quadrature_weights.shape[0] != sz.n
             or tuple(np.shape(radiance)) != (ncol, sz.nsun, sz.nlayer + 1, 2, sz.n, nva,
                                              stokes)
             or tuple(np.shape(flux_up)) != (ncol, sz.nsun, sz.npos)
             or tuple(np.shape(flux_down)) != (ncol, sz.nsun, sz.npos)
             or tuple(np.shape(mean_intensity)) != (ncol, sz.nsun, sz.npos)
+            or fourier_terms.shape[0] != ncol
             or status.shape[0] != ncol or status.shape[1] != 4):
         raise ValueError("solve_vector_columns: arrays disagree in shape")
     workspace = allocate(&sz, &ly, &sc)
@@ -344,6 +408,9 @@ def solve_vector_columns(
             cl.irradiance = &sun_irradiance[col, 0]
             cl.surface_albedo = surface_albedo[col]
             cl.top_radiance = top_radiance[col]
+            cl.planck = &planck_levels[col, 0]
+            cl.surface_planck = planck_surface[col]
+            cl.thermal = thermal
             for i in range(total):
                 (&radiance[col, 0, 0, 0, 0, 0, 0])[i] = 0.0
             if sz.nvz > 0:
@@ -352,9 +419,11 @@ def solve_vector_columns(
                     view_out[i] = 0.0
             if solve_vector_column(&sz, &sc, &ly, &cl, &quadrature_cosines[0],
                                    &quadrature_weights[0], &view_azimuth_radians[0], nva,
+                                   max_fourier_terms, fourier_tolerance,
                                    &radiance[col, 0, 0, 0, 0, 0, 0], view_out,
                                    &flux_up[col, 0, 0], &flux_down[col, 0, 0],
-                                   &mean_intensity[col, 0, 0], &status[col, 0]) != 0:
+                                   &mean_intensity[col, 0, 0], &fourier_terms[col],
+                                   &status[col, 0]) != 0:
                 continue
             for i in range(total + total_view):
                 if not isfinite((&radiance[col, 0, 0, 0, 0, 0, 0])[i] if i < total

@@ -37,6 +37,15 @@ problem of half the order):
   sum-and-difference unknowns of vector_common.pxd keep the mode and its mirror image from
   cancelling. Complex conjugate pairs k^2 (they occur for non-Rayleigh matrices, Siewert
   2000) give two real solutions each, the real and imaginary parts (vector_common.pxd).
+* Thermal emission (term 0): the source (1 - w) B(t) e1 with B = B0 + B1 t linear in the
+  depth t below the layer top has the particular solution (B0 + B1 t) e1 + B1 (y+, -D y+),
+  (A + B D) y+ = (mu_i in the I rows): Z^0 scatters the isotropic unpolarized e1 into w e1
+  exactly at the double-Gauss cosines (only l = 0 survives the integral, and beta1_0 = 0),
+  so the constant part balances (1 - w) B e1, and the slope's mu dX/dt = mu B1 e1 gives
+  the two halves (A y+ - B y- = mu e1 with y- = -D y+ is the same equation downward). The
+  scalar kernel's closed form (layers.pyx) with D = 1; y+ from the LU factors of A + B D
+  that the modes use. A slope that round-off cannot resolve is replaced by the layer's
+  mean, by the scalar kernel's rule (``thermal_slope``).
 * Beam particular solution: the 2 nn x 2 nn system for the vector z exp(-t / mu0),
   solved with dgesv. When mu0 k comes within RESONANCE_GAP of 1 for a real k in some
   layer, mu0 is shifted by 2 * RESONANCE_GAP (relative) for that term, as in the scalar
@@ -198,11 +207,13 @@ cdef void phase_fourier(VectorSizes *sz, const double *moments, Py_ssize_t mode,
 
 cdef int layer_modes(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly, Py_ssize_t layer,
                      double w, const double *moments, Py_ssize_t mode, const double *mu,
-                     const double *wq, lapack_int *failed_info) noexcept nogil:
+                     const double *wq, double *thermal,
+                     lapack_int *failed_info) noexcept nogil:
     """Eigen-solution of one layer and term (after the tables ``sc.pp``, ``sc.pm``).
 
     Leaves the weighted kernels ``wpp``, ``wpm`` (for the particular solution), the
-    eigenvalues and the normalised modes. Returns 0 or a status code.
+    eigenvalues and the normalised modes, and (``thermal`` not NULL) the thermal particular
+    solution's y+ there (module docstring). Returns 0 or a status code.
     """
     cdef Py_ssize_t nn = sz.nn, ns = sz.ns, i, j
     cdef lapack_int ni = <lapack_int>nn, info = 0, one_i = 1
@@ -244,6 +255,14 @@ cdef int layer_modes(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly, Py_ss
     if info != 0:
         failed_info[0] = info
         return VSTATUS_SUM_FACTOR
+    if thermal != NULL:
+        # the thermal particular solution's y+ = (A + B D)^-1 (mu_i in the I rows)
+        for i in range(nn):
+            thermal[i] = mu[i // ns] if i % ns == 0 else 0.0
+        dgetrs(&trans_n, &ni, &one_i, sc.apb, &ni, sc.ipiv, thermal, &ni, &info)
+        if info != 0:
+            failed_info[0] = info
+            return VSTATUS_SUM_FACTOR
     return store_modes(sz, sc, ly, layer, failed_info)
 
 
@@ -332,14 +351,39 @@ cdef int vector_homogeneous(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly
     for i in range(sz.n):
         sc.rhs[i] = -mu[i]
     pi_table(sz, mode, sc.rhs, sz.n, nn, sc.dtab, sc.pm)
+    cdef bint thermal = cl.thermal and mode == 0
     for layer in range(sz.nlayer):
         w = min(cl.albedo[layer], 1.0 - C_CONSERVATIVE_GAP)
         code = layer_modes(sz, sc, ly, layer, w, cl.moments + layer * sz.nl * 6, mode, mu, wq,
-                           failed_info)
+                           ly.yth + layer * nn if thermal else NULL, failed_info)
         if code != 0:
             failed_layer[0] = layer
             return code
+        if thermal:
+            thermal_slope(sz, ly, layer, cl.tau[layer], w, cl.planck[layer],
+                          cl.planck[layer + 1])
     return 0
+
+
+cdef void thermal_slope(VectorSizes *sz, VectorLayers *ly, Py_ssize_t layer, double depth,
+                        double w, double top, double bottom) noexcept nogil:
+    """The Planck source B0 + B1 t of a layer, or its mean where the slope is unresolvable.
+
+    The scalar kernel's rule (layers.pyx, ``thermal_slope``): the linear part of the
+    particular solution is cancelled through the slowest mode (decay rate k_min), with a
+    round-off error of about eps |B1| / k_min, while the mean changes the emission by about
+    (1 - w) |B1| depth^2 / 12: the mean where (1 - w) depth^2 k_min < 12 eps.
+    """
+    cdef Py_ssize_t j, nn = sz.nn
+    cdef double kmin = ly.kr[layer * nn]
+    for j in range(1, nn):
+        kmin = min(kmin, ly.kr[layer * nn + j])
+    if (1.0 - w) * depth * depth * kmin < 12.0 * 2.220446049250313e-16:
+        ly.b0[layer] = 0.5 * (top + bottom)
+        ly.b1[layer] = 0.0
+    else:
+        ly.b0[layer] = top
+        ly.b1[layer] = (bottom - top) / depth
 
 
 cdef void vector_beam_geometry(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,

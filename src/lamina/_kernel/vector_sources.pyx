@@ -14,9 +14,12 @@ with X the layer's solution (modes and particular solution, vector_common.pxd). 
 an exponential in t, so the radiance leaving the layer, int J exp(-t / mu_u) dt / mu_u up to
 its top and int J exp(-(tau - t) / mu_u) dt / mu_u down to its bottom, is a sum of
 exponential differences: ``dexp`` of the scalar kernel for real eigenvalues and the beam,
-its complex form ``complex_dexp`` for complex pairs. The levels follow by transmitting
-upward from the surface (term 0, I only: the Lambertian surface's A / pi times the
-downward flux) and downward from the top (the isotropic top radiance: term 0, I only).
+its complex form ``complex_dexp`` for complex pairs. Thermal emission (term 0) adds
+(1 - w) B(t) e1 and the kernels applied to the thermal particular solution, linear in t,
+whose integrals are closed forms (``thermal_up``, ``thermal_down``, as the scalar
+kernel's). The levels follow by transmitting upward from the surface (term 0, I only: the
+Lambertian surface's A / pi times the downward flux, and (1 - A) B_surface) and downward
+from the top (the isotropic top radiance: term 0, I only).
 
 The modes' part of the source is formed once per layer with two dgemm (the kernels at the
 view cosines times the modes' vectors) and the beam's with two dgemv per sun angle.
@@ -34,7 +37,7 @@ from scipy.linalg.cython_blas cimport dgemm, dgemv
 from lamina._kernel._lapack_int cimport lapack_int
 from lamina._kernel.common cimport C_CONSERVATIVE_GAP, PI, dexp
 from lamina._kernel.vector_common cimport (
-    VectorColumn, VectorLayers, VectorScratch, VectorSizes, stokes_sign,
+    VectorColumn, VectorLayers, VectorScratch, VectorSizes, stokes_sign, thermal_value,
 )
 from lamina._kernel.vector_layers cimport beam_coefficients, phase_fourier, pi_table
 
@@ -166,6 +169,9 @@ cdef void view_integrals(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
     cdef const double *hf_dn = sc.hf + 2 * rows * nn
     cdef const double *hfm_dn = sc.hf + 3 * rows * nn
     cdef char trans_n = b'N'
+    cdef bint thermal = cl.thermal and mode == 0
+    if thermal:
+        thermal_source(sz, sc, ly, cl, layer)
     for s in range(sz.nsun):
         coef = ly.coef + s * neq + 2 * nn * layer
         sec = 1.0 / sc.mu0e[s]
@@ -214,8 +220,50 @@ cdef void view_integrals(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
                                                           False, dr, di, nr, ni) \
                         + coef[nn + j] * mode_integral(hf_dn, hfm_dn, rows, q, j, p, ki,
                                                        True, dr, di, nr, ni)
+                if thermal:
+                    up = up + thermal_up(sc, rows, q, sc.umu[u], t_up, tau)
+                    down = down + thermal_down(sc, rows, q, sc.umu[u], t_down)
                 dest_up[s * rows + q] = up
                 dest_down[s * rows + q] = down
+
+
+cdef void thermal_source(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
+                         VectorColumn *cl, Py_ssize_t layer) noexcept nogil:
+    """A layer's thermal source J = a + c t at the view rows (after view_kernels).
+
+    J = (1 - w) (B0 + B1 t) e1 plus the kernels at the view cosines applied to the thermal
+    particular solution (vector_common.thermal_value, linear in t), up (``thv[0]``,
+    ``thv[1]``) and down (``thv[2]``, ``thv[3]``).
+    """
+    cdef Py_ssize_t nn = sz.nn, ns = sz.ns, rows = sz.nvz * sz.ns, q, c, side
+    cdef double w = min(cl.albedo[layer], 1.0 - C_CONSERVATIVE_GAP), a, slope, v0, v1
+    cdef const double *kernel
+    for side in range(2):
+        kernel = sc.hup if side == 0 else sc.hdn
+        for q in range(rows):
+            a = (1.0 - w) * ly.b0[layer] if q % ns == 0 else 0.0
+            slope = (1.0 - w) * ly.b1[layer] if q % ns == 0 else 0.0
+            for c in range(2 * nn):
+                v0 = thermal_value(sz, ly, layer, c, 0.0)
+                v1 = ly.b1[layer] if c % ns == 0 else 0.0   # nn is a multiple of ns
+                a = a + kernel[q + c * rows] * v0
+                slope = slope + kernel[q + c * rows] * v1
+            sc.thv[2 * side * rows + q] = a
+            sc.thv[(2 * side + 1) * rows + q] = slope
+
+
+cdef inline double thermal_up(VectorScratch *sc, Py_ssize_t rows, Py_ssize_t q, double umu,
+                              double t, double tau) noexcept nogil:
+    """int_t^tau (a + c t') exp(-(t' - t) / mu) dt' / mu for the upward view row q."""
+    cdef double a = sc.thv[q], c = sc.thv[rows + q]
+    return (a + c * t + c * umu) - (a + c * tau + c * umu) * exp(-(tau - t) / umu)
+
+
+cdef inline double thermal_down(VectorScratch *sc, Py_ssize_t rows, Py_ssize_t q,
+                                double umu, double t) noexcept nogil:
+    """int_0^t (a + c t') exp(-(t - t') / mu) dt' / mu for the downward view row q."""
+    cdef double a = sc.thv[2 * rows + q], c = sc.thv[3 * rows + q]
+    return (a + c * t - c * umu) - (a - c * umu) * exp(-t / umu)
 
 
 cdef void vector_view_radiances(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
@@ -260,6 +308,9 @@ cdef void vector_view_radiances(VectorSizes *sz, VectorScratch *sc, VectorLayers
             flux = flux + sc.mu0e[s] * cl.irradiance[s] * exp(-total / sc.mu0e[s])
         for q in range(rows):
             out[q] = cl.surface_albedo / PI * flux if q % ns == 0 else 0.0
+        if cl.thermal and mode == 0:
+            for u in range(sz.nvz):
+                out[u * ns] = out[u * ns] + (1.0 - cl.surface_albedo) * cl.surface_planck
         for layer in range(sz.nlayer - 1, -1, -1):
             out = sc.vfield + ((s * nlev + layer) * 2) * rows
             for q in range(rows):

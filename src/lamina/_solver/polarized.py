@@ -25,10 +25,12 @@ correction's light (the beam scattered several times inside the forward peak) is
 I only, as unpolarized: near the forward direction the scattering matrix of spheres tends
 to F11 times the identity (F12 -> 0, F22, F33, F44 -> F11; Hovenier, van der Mee and Domke
 2004, ch. 2), so the peak leaves the unpolarized beam unpolarized (an approximation for
-non-spherical particles). Not yet with ``stokes`` > 1 (ValueError naming the option):
-thermal emission, a bidirectional surface. The vector path sums
-every Fourier term that the moments carry (up to ``streams - 1``): ``fourier_tolerance``
-and ``max_fourier_terms`` do not apply to it.
+non-spherical particles). Thermal emission (``wavenumber_band`` or ``wavenumber``) is
+unpolarized: the layers' Planck source in I (the kernel's linear-in-depth particular
+solution) and the Lambertian surface's (1 - A) B_surface in I. Not yet with ``stokes`` > 1
+(ValueError naming the option): a bidirectional surface. The Fourier series stops as the scalar one
+does (``fourier_tolerance`` relative to every component of every output Stokes vector,
+``max_fourier_terms``; fluxes alone, or no beam, take term 0 only).
 """
 
 from __future__ import annotations
@@ -74,7 +76,6 @@ def check_polarized(options: Options, sources: ThermalSources,
                     surface: SurfaceArrays | None, spherical: bool = False) -> None:
     """ValueError for what the vector path does not do yet (module docstring)."""
     refused = [
-        (sources.thermal, "thermal emission", "solve the thermal part with stokes=1"),
         (surface is not None, "a bidirectional surface", "use surface_albedo"),
         (spherical, "planet_radius (the pseudo-spherical beam)",
          "solve plane-parallel"),
@@ -233,14 +234,21 @@ def _solve(block: Block, layers: Layers, matrix: np.ndarray, settings: BlockSett
     radiance = np.empty((ncol, nsun, npos, 2, cosines.size, azimuth.size, stokes))
     flux_up, flux_down, mean = (np.empty((ncol, nsun, npos)) for _ in range(3))
     status = np.empty((ncol, 4), dtype=np.int64)
+    terms = np.empty(ncol, dtype=np.int64)
+    # fluxes alone need the azimuthal average only (as in the scalar kernel)
+    max_terms = settings.max_fourier_terms if views.wanted else 1
     solve_vector_columns(
         layers.optical_depth, np.ascontiguousarray(layers.single_scattering_albedo), matrix,
         block.beam_cosines, np.ascontiguousarray(block.sun_irradiance, dtype=np.float64),
         np.ascontiguousarray(block.surface_albedo, dtype=np.float64),
-        np.ascontiguousarray(block.top_diffuse_radiance, dtype=np.float64), mu, weights,
+        np.ascontiguousarray(block.top_diffuse_radiance, dtype=np.float64),
+        np.ascontiguousarray(block.planck_levels, dtype=np.float64),
+        np.ascontiguousarray(block.planck_surface, dtype=np.float64), settings.thermal,
+        mu, weights,
         azimuth, cosines, np.ascontiguousarray(positions.layer, dtype=np.intp),
-        np.ascontiguousarray(positions.fraction, dtype=np.float64), stokes, quadrature,
-        radiance, flux_up, flux_down, mean, status)
+        np.ascontiguousarray(positions.fraction, dtype=np.float64), stokes, max_terms,
+        settings.fourier_tolerance, quadrature, radiance, flux_up, flux_down, mean, terms,
+        status)
     failed = np.flatnonzero(status[:, 0])
     if failed.size:
         code, layer, term, info = status[failed[0]]
@@ -248,11 +256,8 @@ def _solve(block: Block, layers: Layers, matrix: np.ndarray, settings: BlockSett
             f"the vector solver failed in column {failed[0]} of this block (layer {layer}, "
             f"Fourier term {term}): {VECTOR_STATUS_NAMES.get(int(code), 'unknown failure')}"
             f" (LAPACK info {info})")
-    last = np.max(np.abs(matrix) > 0.0, axis=(0, 1, 3))
-    terms = int(np.flatnonzero(last).max()) + 1 if last.any() else 1
     return Fields(flux_up=flux_up, flux_down_diffuse=flux_down, mean_intensity=mean,
-                  radiance=radiance,
-                  fourier_terms=np.full(ncol, terms, dtype=np.int64))
+                  radiance=radiance, fourier_terms=terms)
 
 
 def describe_polarized(out: xr.Dataset, stokes: int) -> xr.Dataset:
