@@ -6,7 +6,7 @@ import xarray as xr
 from scipy import integrate
 
 import lamina
-from lamina.planet import disk_nodes, phase_curve
+from lamina.planet import disk_nodes, phase_curve, stokes_rotation
 
 
 def _clear():
@@ -165,6 +165,24 @@ def test_disk_nodes_cover_the_lit_and_visible_disk():
         phi = np.radians(nodes["azimuth"])
         cos_a = mu * mu0 - np.sqrt(1 - mu**2) * np.sqrt(1 - mu0**2) * np.cos(phi)
         np.testing.assert_allclose(cos_a, np.cos(np.radians(a)), atol=1e-12)
+        if a == 0.0:
+            continue
+        # the Stokes rotation onto the scattering plane: the angle at the observer's vertex
+        # of the spherical triangle (observer, zenith, star) with sides theta, a, theta0
+        # obeys the law of cosines (exact); the mirror half has the opposite angle and
+        # azimuth, and the signed azimuth's size is the node's azimuth
+        both = stokes_rotation(nodes, np.array([a]))
+        half = nodes["weight"].size
+        mu0, mu = np.tile(mu0, 2), both["view_cosine"]
+        expected = (mu0 - mu * np.cos(np.radians(a))) / (
+            np.sqrt(1 - mu**2) * np.sin(np.radians(a)))
+        np.testing.assert_allclose(np.cos(both["rotation"]), expected, atol=1e-12)
+        np.testing.assert_allclose(both["rotation"][half:], -both["rotation"][:half])
+        np.testing.assert_allclose(np.abs(both["signed_azimuth"][:half]), nodes["azimuth"],
+                                   atol=1e-9)
+        np.testing.assert_allclose(both["signed_azimuth"][half:],
+                                   -both["signed_azimuth"][:half])
+        assert np.sum(both["weight"]) == pytest.approx(np.sum(nodes["weight"]), rel=1e-14)
 
 
 @pytest.mark.parametrize(

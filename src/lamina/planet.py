@@ -56,6 +56,32 @@ mu0_points^-2.5) rather than geometrically away from a = 0 and a = 180, and cres
 (a > 150 or so) are resolved by the few mu0 points below sin a. At a = 0 (the geometric
 albedo) every circle is wholly visible and the convergence is geometric.
 
+Polarization (``stokes=3`` or ``4``)
+------------------------------------
+:func:`lamina.solve` refers each local Stokes vector to the meridian plane of the reflected
+direction o (the plane of o and the local vertical n; Q > 0 parallel to it; DEVELOPERS.md,
+"Polarization"). Before the disk sum every local vector is turned onto the planetary
+scattering plane, the plane through star, planet centre and observer, which contains o
+too: by the angle beta at o of the spherical triangle (o, n, s) with sides theta (view),
+a (phase) and theta0 (star),
+
+    cos beta = (mu0 - mu cos a) / (sin theta sin a)
+
+(the spherical law of cosines), Q' = cos 2beta Q + sin 2beta U, U' = -sin 2beta Q +
+cos 2beta U, V' = V. :func:`stokes_rotation` computes beta and the signed local azimuth by
+vectors (its docstring) and gives both halves of the disk, psi and -psi, explicitly: the
+mirror image of a point has the opposite azimuth and rotation, so the disk-integrated U and
+V cancel (the planet is mirror-symmetric about the scattering plane) while Q adds. The
+reflected I and Q at fixed (mu, mu0) are cosine series of degree K in the azimuth, U and V
+sine series (de Haan, Bosma and Hovenier 1987); the sines vanish at 0 and 180, so the
+polarized path samples the K + 1 midpoints 180 (k + 1/2) / (K + 1) instead, where both
+series are fixed exactly (the type-II cosine and sine transforms). The planet's
+polarization is then quoted as planetary scientists do, P = -Q/I with Q referred to the
+scattering plane, so that P > 0 when the light is polarized perpendicular to it (Rayleigh
+scattering near 90 degrees phase). With a thin layer (the limb-bright case: I mu does not
+vanish at the limb) the disk quadrature converges only about as mu0_points^-1.5; in -Q/I
+most of that error cancels.
+
 With delta-M and the single-scattering correction (the defaults) the disk integrates the
 corrected radiances, while lamina's fluxes, and so the plane albedo, stay those of the
 truncated phase function: the spherical albedo here and 2 int A(mu0) mu0 dmu0 from fluxes
@@ -73,7 +99,7 @@ import xarray as xr
 from lamina._checks import as_float_array, require_range
 from lamina.atmosphere import check_atmosphere
 
-__all__ = ["disk_nodes", "phase_curve"]
+__all__ = ["disk_nodes", "phase_curve", "stokes_rotation"]
 
 
 def _gauss_unit(order: int) -> tuple[np.ndarray, np.ndarray]:
@@ -392,7 +418,7 @@ def phase_curve(
 
     The local radiance reflected at the top of ``atmosphere`` is integrated over the lit and
     visible part of the disk (Horak 1950; Horak and Little 1965; see the module docstring
-    for the quadrature) with one :func:`lamina.solve` call for all the local geometries.
+    for the quadrature) with one :func:`lamina.solve` call per mu0 node.
 
     Parameters
     ----------
@@ -408,7 +434,9 @@ def phase_curve(
         A bidirectional ground instead (:func:`lamina.solve`'s ``surface=``; not together
         with ``surface_albedo``).
     stokes : int
-        Only 1 (scalar radiance): polarized phase curves need the vector kernel.
+        1 (scalar radiance), 3 (I, Q, U) or 4 (I, Q, U, V): the local Stokes vectors of the
+        vector solve turned onto the scattering plane (module docstring). Not yet with
+        ``surface`` or ``planet_radius`` (the vector solve refuses them by name).
     planet_radius : float or DataArray, optional
         Passed to :func:`lamina.solve`: each local column then has the pseudo-spherical
         beam (needs level altitudes, or pressures and temperatures, in the atmosphere).
@@ -434,7 +462,13 @@ def phase_curve(
         ``reflectance`` (phase_angle, ...): brightness over that of a white Lambertian disk
         of the same size normal to star and observer (at phase 0 the geometric albedo);
         ``geometric_albedo``; ``spherical_albedo`` = 2 int_0^pi reflectance(a) sin a da
-        (= p q); ``bond_albedo`` with ``stellar_spectrum``.
+        (= p q); ``bond_albedo`` with ``stellar_spectrum``. With ``stokes`` > 1,
+        ``reflectance`` has a last dim ``stokes`` ("I", "Q", "U"(, "V")), Q and U referred
+        to the planetary scattering plane (Q > 0 parallel to it; U and V vanish by
+        symmetry), the albedos are those of I, and ``degree_of_polarization``
+        (phase_angle, ...) is the signed degree of linear polarization -Q/I: positive
+        when the light is polarized perpendicular to the scattering plane (0 where I = 0,
+        as at phase 180).
 
     Examples
     --------
