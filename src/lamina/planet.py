@@ -56,6 +56,32 @@ mu0_points^-2.5) rather than geometrically away from a = 0 and a = 180, and cres
 (a > 150 or so) are resolved by the few mu0 points below sin a. At a = 0 (the geometric
 albedo) every circle is wholly visible and the convergence is geometric.
 
+Polarization (``stokes=3`` or ``4``)
+------------------------------------
+:func:`lamina.solve` refers each local Stokes vector to the meridian plane of the reflected
+direction o (the plane of o and the local vertical n; Q > 0 parallel to it; DEVELOPERS.md,
+"Polarization"). Before the disk sum every local vector is turned onto the planetary
+scattering plane, the plane through star, planet centre and observer, which contains o
+too: by the angle beta at o of the spherical triangle (o, n, s) with sides theta (view),
+a (phase) and theta0 (star),
+
+    cos beta = (mu0 - mu cos a) / (sin theta sin a)
+
+(the spherical law of cosines), Q' = cos 2beta Q + sin 2beta U, U' = -sin 2beta Q +
+cos 2beta U, V' = V. :func:`stokes_rotation` computes beta and the signed local azimuth by
+vectors (its docstring) and gives both halves of the disk, psi and -psi, explicitly: the
+mirror image of a point has the opposite azimuth and rotation, so the disk-integrated U and
+V cancel (the planet is mirror-symmetric about the scattering plane) while Q adds. The
+reflected I and Q at fixed (mu, mu0) are cosine series of degree K in the azimuth, U and V
+sine series (de Haan, Bosma and Hovenier 1987); the sines vanish at 0 and 180, so the
+polarized path samples the K + 1 midpoints 180 (k + 1/2) / (K + 1) instead, where both
+series are fixed exactly (the type-II cosine and sine transforms). The planet's
+polarization is then quoted as planetary scientists do, P = -Q/I with Q referred to the
+scattering plane, so that P > 0 when the light is polarized perpendicular to it (Rayleigh
+scattering near 90 degrees phase). With a thin layer (the limb-bright case: I mu does not
+vanish at the limb) the disk quadrature converges only about as mu0_points^-1.5; in -Q/I
+most of that error cancels.
+
 With delta-M and the single-scattering correction (the defaults) the disk integrates the
 corrected radiances, while lamina's fluxes, and so the plane albedo, stay those of the
 truncated phase function: the spherical albedo here and 2 int A(mu0) mu0 dmu0 from fluxes
@@ -73,7 +99,7 @@ import xarray as xr
 from lamina._checks import as_float_array, require_range
 from lamina.atmosphere import check_atmosphere
 
-__all__ = ["disk_nodes", "phase_curve"]
+__all__ = ["disk_nodes", "phase_curve", "stokes_rotation"]
 
 
 def _gauss_unit(order: int) -> tuple[np.ndarray, np.ndarray]:
@@ -110,8 +136,9 @@ def disk_nodes(phase_angle: np.ndarray, order: int, angle_order: int | None = No
         ``phase_index``, ``sun_index`` (into ``sun_cosine``), ``view_cosine`` (mu),
         ``azimuth`` (lamina's relative azimuth, degrees) and ``weight``, such that
         ``sum(weight * I * view_cosine)`` over the nodes of one phase angle is the disk
-        integral of I mu dA there (I for unit stellar irradiance, unit radius). Nodes whose
-        weight vanishes (the arc is empty) are left out.
+        integral of I mu dA there (I for unit stellar irradiance, unit radius); ``angle``
+        (psi, radians, in (0, psi_max): the weight counts the mirror point -psi too). Nodes
+        whose weight vanishes (the arc is empty) are left out.
 
     Examples
     --------
@@ -155,6 +182,7 @@ def disk_nodes(phase_angle: np.ndarray, order: int, angle_order: int | None = No
         "view_cosine": mu[keep],
         "azimuth": azimuth[keep],
         "weight": weight[keep],
+        "angle": np.broadcast_to(psi, shape)[keep],
     }
 
 
@@ -173,6 +201,68 @@ def _azimuth_basis(azimuth: np.ndarray, degree: int) -> tuple[np.ndarray, np.nda
     return samples, basis
 
 
+def _midpoint_bases(azimuth: np.ndarray, degree: int
+                    ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Sample azimuths and the matrices that evaluate cosine and sine series from them.
+
+    For the Stokes components: I and Q are cosine series of degree K in the azimuth, U and V
+    sine series (DEVELOPERS.md, "Polarization"). The end points 0 and 180 cannot serve the
+    sines (every sin(m phi) vanishes there), so the K + 1 samples are the midpoints
+    phi_k = 180 (k + 1/2) / (K + 1), k = 0..K, at which cos(m phi), m = 0..K, and
+    sin(m phi), m = 1..K + 1, are both invertible (the type-II cosine and sine transforms):
+    ``f(azimuth[n]) = basis[n] @ f(phi_k)`` exactly (to round-off), for signed azimuths.
+    """
+    samples = 180.0 * (np.arange(degree + 1) + 0.5) / (degree + 1)
+    radians, wanted_at = np.radians(samples)[:, None], np.radians(azimuth)[:, None]
+    bases = []
+    for function, m in ((np.cos, np.arange(degree + 1)), (np.sin, np.arange(1, degree + 2))):
+        bases.append(np.linalg.solve(function(radians * m).T, function(wanted_at * m).T).T)
+    return samples, bases[0], bases[1]
+
+
+def stokes_rotation(nodes: dict[str, np.ndarray], phase_angle: np.ndarray
+                    ) -> dict[str, np.ndarray]:
+    """Both mirror halves of the disk nodes, with signed local azimuths and rotation angles.
+
+    By vectors, in coordinates where the star is s = (0, 0, 1), the observer
+    o = (sin a, 0, cos a) and the point n = (sin theta0 cos psi, sin theta0 sin psi, mu0).
+    The local frame (lamina's conventions) has z = n, x along the beam's horizontal
+    propagation, x = (mu0 n - s) / sin theta0, and y = z x x; the view's azimuth is
+    phi = atan2(o.y, o.x) (for psi > 0 it is negative: phi = -``azimuth``). The local
+    Stokes vector is referred to l = (mu o - n) / sin theta (e_theta of o) and r = l x o;
+    the planetary scattering plane (star, centre, observer) to l_s = (cos a, 0, -sin a),
+    the unit vector along do/da, which lies in it, is normal to o and stays defined at
+    a = 0 and 180. The rotation angle from l toward r onto l_s is
+    beta = atan2(l_s.r, l_s.l), and then, from the spherical triangle (o, n, s) with sides
+    theta, a, theta0, cos beta = (mu0 - mu cos a) / (sin theta sin a) (the law of
+    cosines; beta is the triangle's angle at o). Returns the nodes twice (psi and -psi,
+    weights halved) with ``signed_azimuth`` (degrees) and ``rotation`` (beta, radians).
+    """
+    halves = {key: np.concatenate([value, value]) for key, value in nodes.items()
+              if key != "sun_cosine"}
+    halves["angle"][nodes["angle"].size:] *= -1.0
+    halves["weight"] = 0.5 * halves["weight"]
+    a = np.radians(np.asarray(phase_angle, dtype=np.float64))[halves["phase_index"]]
+    mu0 = nodes["sun_cosine"][halves["sun_index"]]
+    sin0, psi = np.sqrt(1.0 - mu0 * mu0), halves["angle"]
+    zero = np.zeros_like(a)
+    normal = np.stack([sin0 * np.cos(psi), sin0 * np.sin(psi), mu0], axis=-1)
+    star = np.stack([zero, zero, zero + 1.0], axis=-1)
+    observer = np.stack([np.sin(a), zero, np.cos(a)], axis=-1)
+    mu = np.sum(normal * observer, axis=-1)
+    east = (mu0[:, None] * normal - star) / sin0[:, None]
+    north = np.cross(normal, east)
+    phi = np.arctan2(np.sum(observer * north, -1), np.sum(observer * east, -1))
+    sin_view = np.sqrt(np.clip(1.0 - mu * mu, 0.0, None))
+    ell = (mu[:, None] * observer - normal) / np.where(sin_view > 0.0, sin_view, 1.0)[:, None]
+    right = np.cross(ell, observer)
+    plane = np.stack([np.cos(a), zero, -np.sin(a)], axis=-1)
+    beta = np.arctan2(np.sum(plane * right, -1), np.sum(plane * ell, -1))
+    halves["signed_azimuth"] = np.degrees(phi)
+    halves["rotation"] = np.where(sin_view > 0.0, beta, 0.0)
+    return halves
+
+
 def _check_phase_angle(phase_angle: object) -> np.ndarray:
     if isinstance(phase_angle, xr.DataArray):
         phase_angle = phase_angle.values
@@ -184,10 +274,12 @@ def _check_phase_angle(phase_angle: object) -> np.ndarray:
     return angles
 
 
-def _check_stokes(stokes: object) -> None:
-    if isinstance(stokes, bool) or not isinstance(stokes, int | np.integer) or stokes != 1:
-        raise ValueError(f"stokes: polarized phase curves need the vector kernel, which lamina "
-                         f"does not have yet; give stokes=1 (scalar radiance); got {stokes!r}")
+def _check_stokes(stokes: object) -> int:
+    if isinstance(stokes, bool) or not isinstance(stokes, int | np.integer) \
+            or int(stokes) not in (1, 3, 4):
+        raise ValueError("stokes must be 1 (I), 3 (I, Q, U) or 4 (I, Q, U, V); got "
+                         f"{stokes!r}")
+    return int(stokes)
 
 
 def _check_surface(surface: object, surface_albedo: object) -> None:
@@ -209,39 +301,76 @@ def _disk_integrals(
     streams: int,
     order: tuple[int, int],
     solve_options: dict,
+    stokes: int = 1,
 ) -> xr.DataArray:
-    """The disk integral of I mu dA at each phase angle (one solve per mu0 node).
+    """The disk integral of I mu dA (and of Q, U, V) at each phase angle.
 
-    Each node's solve has one sun and only the view cosines that node's points need, at
-    the K + 1 sample azimuths of the cosine series (see the module docstring).
+    One solve per mu0 node, with one sun and only the view cosines that node's points need,
+    at the K + 1 sample azimuths of the series (see the module docstring). With stokes > 1
+    the local Stokes vectors are turned onto the planetary scattering plane
+    (:func:`stokes_rotation`) before they are summed, and the result has a ``stokes`` dim.
     """
     from lamina.solve import solve  # here: solve imports modules that may import this one
 
     nodes = disk_nodes(angles, *order)
     sun_zenith = np.degrees(np.arccos(nodes["sun_cosine"]))
     degree = max(streams, atmosphere.sizes["moment"]) - 1
-    samples, basis = _azimuth_basis(nodes["azimuth"], degree)
+    if stokes == 1:
+        samples, basis = _azimuth_basis(nodes["azimuth"], degree)
+        points = nodes
+    else:
+        points = stokes_rotation(nodes, angles)
+        samples, basis, sine_basis = _midpoint_bases(points["signed_azimuth"], degree)
+        turn = 2.0 * points["rotation"]
     total = None
-    for sun in np.unique(nodes["sun_index"]):
-        pick = np.flatnonzero(nodes["sun_index"] == sun)
-        view_zenith = np.degrees(np.arccos(nodes["view_cosine"][pick]))
+    for sun in np.unique(points["sun_index"]):
+        pick = np.flatnonzero(points["sun_index"] == sun)
+        view_zenith = np.degrees(np.arccos(points["view_cosine"][pick]))
         views, view_index = np.unique(view_zenith, return_inverse=True)
         out = solve(atmosphere, streams=streams, sun_zenith=float(sun_zenith[sun]),
                     sun_irradiance=1.0, view_zenith=views, view_azimuth=samples,
-                    top_diffuse_radiance=0.0, output_levels=[0], **solve_options)
+                    top_diffuse_radiance=0.0, output_levels=[0], stokes=stokes,
+                    **solve_options)
         radiance = out["radiance"].isel(level=0, drop=True).sel(direction="up", drop=True)
-        extra = [dim for dim in radiance.dims if dim not in ("view_zenith", "view_azimuth")]
-        radiance = radiance.transpose(*extra, "view_zenith", "view_azimuth")
-        local = np.asarray(radiance.values)[..., view_index, :]          # (..., n, K+1)
-        brightness = np.einsum("...nk,nk->...n", local, basis[pick])
-        terms = brightness * (nodes["weight"][pick] * nodes["view_cosine"][pick])
+        core = ("view_zenith", "view_azimuth", "stokes")
+        extra = [dim for dim in radiance.dims if dim not in core]
+        radiance = radiance.transpose(*extra, *[dim for dim in core if dim in radiance.dims])
+        local = np.take(radiance.values, view_index, axis=len(extra))   # (..., n, K+1[, S])
+        if stokes == 1:
+            brightness = np.einsum("...nk,nk->...n", local, basis[pick])
+        else:
+            even = np.einsum("...nks,nk->...ns", local[..., :2], basis[pick])
+            odd = np.einsum("...nks,nk->...ns", local[..., 2:], sine_basis[pick])
+            cos2, sin2 = np.cos(turn[pick]), np.sin(turn[pick])
+            q, u = even[..., 1], odd[..., 0]
+            brightness = np.stack([even[..., 0], cos2 * q + sin2 * u, -sin2 * q + cos2 * u,
+                                   *np.moveaxis(odd[..., 1:], -1, 0)], axis=-1)
+            brightness = np.moveaxis(brightness, -1, 0)                 # (S, ..., n)
+        terms = brightness * (points["weight"][pick] * points["view_cosine"][pick])
         if total is None:
             # a phase with no node (a = 180) integrates to zero
             total = np.zeros((*terms.shape[:-1], angles.size))
             coords = {dim: radiance.coords[dim] for dim in extra if dim in radiance.coords}
-        np.add.at(np.moveaxis(total, -1, 0), nodes["phase_index"][pick],
+        np.add.at(np.moveaxis(total, -1, 0), points["phase_index"][pick],
                   np.moveaxis(terms, -1, 0))
-    return xr.DataArray(total, dims=(*extra, "_phase"), coords=coords)
+    if stokes == 1:
+        return xr.DataArray(total, dims=(*extra, "_phase"), coords=coords)
+    return xr.DataArray(np.moveaxis(total, 0, -1), dims=(*extra, "_phase", "stokes"),
+                        coords={**coords, "stokes": list("IQUV"[:stokes])})
+
+
+def _polarization(reflectance: xr.DataArray) -> dict[str, xr.DataArray]:
+    """The signed degree of linear polarization -Q / I (0 where I = 0) and labels."""
+    reflectance["stokes"].attrs = {
+        "long_name": "Stokes component: Q and U referred to the planetary scattering plane "
+                     "(star, planet centre, observer), Q > 0 parallel to it"}
+    intensity = reflectance.sel(stokes="I", drop=True)
+    safe = xr.where(intensity > 0.0, intensity, 1.0)
+    degree = xr.where(intensity > 0.0, -reflectance.sel(stokes="Q", drop=True) / safe, 0.0)
+    degree.attrs = {"long_name": "signed degree of linear polarization -Q/I of the whole "
+                    "planet, Q referred to the scattering plane: > 0 perpendicular to it "
+                    "(0 where I = 0)", "units": "1"}
+    return {"degree_of_polarization": degree.transpose("phase_angle", ...)}
 
 
 def _bond_albedo(spherical: xr.DataArray, stellar_spectrum: object) -> xr.DataArray:
@@ -289,7 +418,7 @@ def phase_curve(
 
     The local radiance reflected at the top of ``atmosphere`` is integrated over the lit and
     visible part of the disk (Horak 1950; Horak and Little 1965; see the module docstring
-    for the quadrature) with one :func:`lamina.solve` call for all the local geometries.
+    for the quadrature) with one :func:`lamina.solve` call per mu0 node.
 
     Parameters
     ----------
@@ -305,7 +434,9 @@ def phase_curve(
         A bidirectional ground instead (:func:`lamina.solve`'s ``surface=``; not together
         with ``surface_albedo``).
     stokes : int
-        Only 1 (scalar radiance): polarized phase curves need the vector kernel.
+        1 (scalar radiance), 3 (I, Q, U) or 4 (I, Q, U, V): the local Stokes vectors of the
+        vector solve turned onto the scattering plane (module docstring). Not yet with
+        ``surface`` or ``planet_radius`` (the vector solve refuses them by name).
     planet_radius : float or DataArray, optional
         Passed to :func:`lamina.solve`: each local column then has the pseudo-spherical
         beam (needs level altitudes, or pressures and temperatures, in the atmosphere).
@@ -331,7 +462,13 @@ def phase_curve(
         ``reflectance`` (phase_angle, ...): brightness over that of a white Lambertian disk
         of the same size normal to star and observer (at phase 0 the geometric albedo);
         ``geometric_albedo``; ``spherical_albedo`` = 2 int_0^pi reflectance(a) sin a da
-        (= p q); ``bond_albedo`` with ``stellar_spectrum``.
+        (= p q); ``bond_albedo`` with ``stellar_spectrum``. With ``stokes`` > 1,
+        ``reflectance`` has a last dim ``stokes`` ("I", "Q", "U"(, "V")), Q and U referred
+        to the planetary scattering plane (Q > 0 parallel to it; U and V vanish by
+        symmetry), the albedos are those of I, and ``degree_of_polarization``
+        (phase_angle, ...) is the signed degree of linear polarization -Q/I: positive
+        when the light is polarized perpendicular to the scattering plane (0 where I = 0,
+        as at phase 180).
 
     Examples
     --------
@@ -342,7 +479,7 @@ def phase_curve(
     >>> round(float(out.geometric_albedo), 6)   # the Lambert sphere: 2/3
     0.666667
     """
-    _check_stokes(stokes)
+    stokes = _check_stokes(stokes)
     _check_surface(surface, surface_albedo)
     check_atmosphere(atmosphere)
     angles = _check_phase_angle(phase_angle)
@@ -361,9 +498,10 @@ def phase_curve(
     options = {"delta_m": delta_m, "single_scattering_correction": single_scattering_correction,
                "fourier_tolerance": fourier_tolerance, "surface_albedo": surface_albedo,
                "surface": surface, "planet_radius": planet_radius}
-    disk = _disk_integrals(atmosphere, everything, int(streams), order, options)
-    geometric = disk.isel(_phase=0, drop=True)
-    integral_part = disk.isel(_phase=slice(1, 1 + integral_order))
+    disk = _disk_integrals(atmosphere, everything, int(streams), order, options, stokes)
+    intensity = disk if stokes == 1 else disk.sel(stokes="I", drop=True)
+    geometric = intensity.isel(_phase=0, drop=True)
+    integral_part = intensity.isel(_phase=slice(1, 1 + integral_order))
     # da = pi d(node); 2 int reflectance sin a da
     factor = xr.DataArray(2.0 * np.pi * weights * np.sin(np.radians(integral_angles)),
                           dims=("_phase",))
@@ -379,6 +517,8 @@ def phase_curve(
                        "integral)", "units": "1"}
     data = {"reflectance": reflectance, "geometric_albedo": geometric,
             "spherical_albedo": spherical}
+    if stokes > 1:
+        data.update(_polarization(reflectance))
     if stellar_spectrum is not None:
         bond = _bond_albedo(spherical, stellar_spectrum)
         bond.attrs = {"long_name": "Bond albedo (spherical albedo weighted by the stellar "
