@@ -313,3 +313,22 @@ def test_without_a_beam_one_fourier_term_is_solved(views):
     assert int(diffuse.fourier_terms) == 1
     beam = lamina.solve(atmosphere, sun_zenith=30.0, **kwargs)
     assert int(beam.fourier_terms) == (3 if views else 1)
+
+
+def test_a_thick_layer_seen_at_grazing_views_is_finite_and_matches_the_doubling():
+    # t / mu up to 1500 (t = 30, mu down to 0.02): the view integrals of complex-conjugate
+    # mode pairs once multiplied an underflowed exp(-t / mu) by an overflowed exp(+t / mu)
+    # (a non-finite SolverError below mu of about 0.035); against the adding-doubling at the
+    # same quadrature
+    matrix = rayleigh_matrix()
+    atmosphere = lamina.make_atmosphere([30.0], [0.95], scattering_matrix_moments=matrix)
+    grazing = np.degrees(np.arccos([0.02, 0.035, 0.3]))
+    out = lamina.solve(atmosphere, streams=8, sun_zenith=30.0, surface_albedo=0.1,
+                       view_zenith=grazing, view_azimuth=[0.0, 90.0], stokes=3, **OFF)
+    reference = polarized_doubling([(30.0, 0.95, matrix)], 0.1,
+                                   np.cos(np.radians(grazing))[:, None],
+                                   np.cos(np.radians(30.0)), np.array([0.0, 90.0])[None, :],
+                                   quadrature_nodes=4)
+    up = out.radiance.sel(level=0, direction="up").values
+    scale = np.abs(reference.reflected[..., 0]).max()
+    np.testing.assert_allclose(up, reference.reflected[..., :3], rtol=0, atol=1e-9 * scale)

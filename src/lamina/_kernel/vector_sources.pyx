@@ -47,8 +47,14 @@ cdef inline void complex_dexp(double ar, double ai, double br, double bi, double
     """(exp(-a L) - exp(-b L)) / (b - a) for complex a, b (continuous at a == b).
 
     Written as exp(-a L) L (1 - exp(-x)) / x with x = (b - a) L, the last factor from its
-    Taylor series (to x^4, error below 2e-13 relative) where |x| < 1e-2.
+    Taylor series (to x^4, error below 2e-13 relative) where |x| < 1e-2. The value is
+    symmetric in a and b: a is taken as the one with the smaller real part, so that
+    Re x >= 0 and neither factor overflows (a thick layer seen at a grazing view has
+    exp(-a L) below the smallest double where exp(-x) would exceed the largest).
     """
+    if br < ar:
+        ar, br = br, ar
+        ai, bi = bi, ai
     cdef double xr = (br - ar) * length, xi = (bi - ai) * length
     cdef double er = exp(-ar * length) * cos(ai * length)
     cdef double ei = -exp(-ar * length) * sin(ai * length)
