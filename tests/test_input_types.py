@@ -97,3 +97,30 @@ def test_surface_albedo_with_a_layer_dim_or_other_coordinates():
     # the same values on the atmosphere's coordinates are fine
     same = other.assign_coords(wavelength=[0.4, 0.5])
     assert _solve(atmosphere, surface_albedo=same).sizes["wavelength"] == 2
+
+
+def test_a_band_mixing_a_dataarray_bound_with_a_scalar_is_the_same_as_two_dataarrays():
+    # issue 17: "a wavenumber band mixing a DataArray bound with a scalar fails with numpy's
+    # shape error although documented" (solve's docstring: "Each bound may be a DataArray");
+    # the cross-check is the same band given as two DataArrays, and each wavelength's band
+    # given as a plain pair of scalars (a second path through the Planck source)
+    atmosphere = lamina.make_atmosphere(_spectral(), 0.5, MOMENTS,
+                                        temperature=[220.0, 250.0, 280.0])
+    low = xr.DataArray([400.0, 600.0], dims="wavelength", coords={"wavelength": [0.4, 0.5]})
+    high = 900.0
+    kwargs = {"streams": 4, "view_zenith": [0.0, 60.0], "view_azimuth": [0.0]}
+    mixed = lamina.solve(atmosphere, wavenumber_band=(low, high), **kwargs)
+    both = lamina.solve(atmosphere, wavenumber_band=(low, xr.full_like(low, high)), **kwargs)
+    flipped = lamina.solve(atmosphere, wavenumber_band=(300.0, low + 500.0), **kwargs)
+    flipped_both = lamina.solve(
+        atmosphere, wavenumber_band=(xr.full_like(low, 300.0), low + 500.0), **kwargs)
+    for name in ("flux_up", "flux_down", "radiance"):
+        xr.testing.assert_identical(mixed[name], both[name])
+        xr.testing.assert_identical(flipped[name], flipped_both[name])
+        for index, bound in enumerate(low.values):
+            alone = lamina.solve(atmosphere.isel(wavelength=index),
+                                 wavenumber_band=(float(bound), high), **kwargs)
+            np.testing.assert_allclose(mixed[name].isel(wavelength=index), alone[name],
+                                       rtol=1e-12, atol=0.0)
+    assert float(mixed["flux_up"].isel(level=0, wavelength=0)) > float(
+        mixed["flux_up"].isel(level=0, wavelength=1))     # a wider band emits more

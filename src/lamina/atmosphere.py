@@ -544,7 +544,10 @@ def check_moment_values(values: np.ndarray, labels: list[str] | None = None) -> 
         place = where_text(bad, labels) if bad else "the phase function"
         raise ValueError(f"phase_moments must start with chi_0 = 1; {place} has "
                          f"chi_0 = {values[..., 0][bad]:g}")
-    bad = first_bad(np.abs(values) > 1.0 + MOMENT_TOLERANCE)
+    # the two extremes first: no temporary of the moments' size in the common case
+    bound = 1.0 + MOMENT_TOLERANCE
+    outside = values.size and (values.min() < -bound or values.max() > bound)
+    bad = first_bad(np.abs(values) > bound) if outside else None
     if bad is not None:
         raise ValueError(f"phase_moments must satisfy |chi_l| <= 1; {where_text(bad, labels)} "
                          f"has {values[bad]:g}")

@@ -667,8 +667,9 @@ def delta_m_scale(
     if np.any(zeroth_off):
         bad_value, where = _index_text(moments[..., 0], zeroth_off)
         raise ValueError(f"phase_moments[..., 0] must be 1; got {bad_value:g}{where}")
-    too_large = np.abs(moments) > 1.0 + 1e-12
-    if np.any(too_large):
+    # the two extremes first: no temporary of the moments' size in the common case
+    if moments.size and (moments.min() < -(1.0 + 1e-12) or moments.max() > 1.0 + 1e-12):
+        too_large = np.abs(moments) > 1.0 + 1e-12
         bad_value, where = _index_text(moments, too_large)
         raise ValueError(f"phase_moments must satisfy |chi_l| <= 1; got {bad_value:g}{where}")
 

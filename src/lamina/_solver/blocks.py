@@ -256,14 +256,41 @@ def _trim_moments(moments: np.ndarray) -> np.ndarray:
     """Moments with the negligible tail of each layer zeroed and the common tail dropped.
 
     The tail is set to zero per layer (so that no result depends on which other columns share
-    a dask chunk) and dropped where every layer of the block has ended.
+    a dask chunk) and dropped where every layer of the block has ended. Where every zeroed
+    value is already +0.0 (the tails of most phase functions), the kept moments are returned
+    as they are, without a copy (a view of the block's input when nothing is dropped).
     """
     nmom = moments.shape[-1]
-    significant = np.abs(moments) > NEGLIGIBLE_MOMENT
+    significant = (moments > NEGLIGIBLE_MOMENT) | (moments < -NEGLIGIBLE_MOMENT)
     last = nmom - 1 - np.argmax(significant[..., ::-1], axis=-1)   # (col, layer)
     last = np.where(significant.any(axis=-1), last, 0)
+    del significant
     keep = int(last.max()) + 1
+    if _zero_tails(moments, last, keep):
+        kept = moments[..., :keep]
+        return kept if keep == nmom else np.ascontiguousarray(kept)
     return np.where(np.arange(keep) <= last[..., None], moments[..., :keep], 0.0)
+
+
+#: Elements of the moments looked at together by _zero_tails (bounds its temporaries).
+_TAIL_SLAB = 1 << 22
+
+
+def _zero_tails(moments: np.ndarray, last: np.ndarray, keep: int) -> bool:
+    """True if every moment after ``last`` (up to ``keep``) is +0.0 bit for bit."""
+    if keep == 1 or not moments.size:
+        return True
+    bits = moments[..., :keep].view(np.int64) if moments.dtype == np.float64 else None
+    if bits is None:
+        return False
+    ncol = moments.shape[0]
+    step = max(1, _TAIL_SLAB // max(1, moments[0, ..., :keep].size))
+    degree = np.arange(keep)
+    for start in range(0, ncol, step):
+        tail = degree > last[start:start + step, ..., None]
+        if np.any(bits[start:start + step][tail]):
+            return False
+    return True
 
 
 def pack_block(block: Block, fields: Fields, depth: np.ndarray,

@@ -16,6 +16,8 @@ The last two are :func:`correct_radiance`.
 
 from __future__ import annotations
 
+import dataclasses
+
 import numpy as np
 
 from lamina import _kernel, phase
@@ -81,14 +83,50 @@ def _slant_depths(block: Block, optical_depth: np.ndarray, positions: Positions
     return slant_at_positions(slant, cosine, optical_depth, positions)
 
 
+#: Elements of one temporary of the corrections (about 16 MB): a block of more columns is
+#: corrected a slab of columns at a time (each column's correction is its own).
+_SLAB_ELEMENTS = 1 << 21
+
+
 def correct_radiance(block: Block, layers: Layers, settings: BlockSettings,
                      radiance: np.ndarray) -> np.ndarray:
     """Radiances with the corrections that the settings ask for."""
     if not settings.single_scattering_correction:
         return radiance
+    # decided for the whole block, so that no result depends on the slabs
+    aureole = settings.aureole_correction and bool(np.any(layers.truncation > 0.0))
+    ncol, nsun = block.beam_cosines.shape
+    nlayer, nmom = block.phase_moments.shape[1:]
+    per_column = nsun * (radiance.shape[2] + nlayer) * (max(nmom, settings.streams)
+                                                         + radiance[0, 0].size)
+    step = max(1, _SLAB_ELEMENTS // per_column)
+    if step >= ncol:
+        return _corrected(block, layers, settings, radiance, aureole)
+    corrected = np.empty_like(radiance)
+    for start in range(0, ncol, step):
+        rows = slice(start, start + step)
+        corrected[rows] = _corrected(_columns(block, rows, ncol), _columns(layers, rows, ncol),
+                                     settings, radiance[rows], aureole)
+    return corrected
+
+
+def _columns(record, rows: slice, ncol: int):
+    """A Block or Layers of the columns ``rows`` (views of the record's arrays)."""
+    def part(value):
+        if isinstance(value, np.ndarray) and value.ndim and value.shape[0] == ncol:
+            return value[rows]
+        if isinstance(value, dict):
+            return {name: part(array) for name, array in value.items()}
+        return value
+    return dataclasses.replace(record, **{field.name: part(getattr(record, field.name))
+                                          for field in dataclasses.fields(record)})
+
+
+def _corrected(block: Block, layers: Layers, settings: BlockSettings, radiance: np.ndarray,
+               aureole: bool) -> np.ndarray:
     positions, views = settings.positions, settings.views
     radiance = radiance + _single_scattering_correction(block, layers, positions, views)
-    if settings.aureole_correction and np.any(layers.truncation > 0.0):
+    if aureole:
         radiance[:, :, :, 1] += _aureole_correction(block, layers.truncation, positions,
                                                     views, settings.streams)
         # the correction is a small-angle approximation (slant path t / mu0 for every

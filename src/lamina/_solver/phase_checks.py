@@ -75,15 +75,30 @@ def _weighted_table(terms: int) -> np.ndarray:
     return weighted
 
 
+#: Values of the series (rows x CHECK_ANGLES) computed at a time: bounds the check's
+#: temporaries (a 60,000-column block with radiances once peaked at 12x its moments here).
+_SLAB_VALUES = 1 << 21
+
+
 def _most_negative(moments: np.ndarray, scatters: np.ndarray) -> tuple[int, float, float] | None:
-    """(layer, value, angle) of the most negative scattering layer's series, or None."""
-    rows = moments[scatters]
-    if rows.shape[0] == 0:
+    """(layer, value, angle) of the most negative scattering layer's series, or None.
+
+    Columns are looked at a slab at a time; on a tie between slabs the first is kept.
+    """
+    table = _weighted_table(moments.shape[-1])
+    step = max(1, _SLAB_VALUES // (max(1, moments.shape[1]) * CHECK_ANGLES.size))
+    best = None
+    for start in range(0, moments.shape[0], step):
+        chosen = scatters[start:start + step]
+        rows = moments[start:start + step][chosen]
+        if rows.shape[0] == 0:
+            continue
+        unique, index = np.unique(rows, axis=0, return_index=True)
+        values = unique @ table
+        worst = np.unravel_index(np.argmin(values), values.shape)
+        if best is None or values[worst] < best[1]:
+            layer = int(np.argwhere(chosen)[index[worst[0]]][1])
+            best = (layer, float(values[worst]), float(CHECK_ANGLES[worst[1]]))
+    if best is None or best[1] >= -NEGATIVE_TOLERANCE:
         return None
-    unique, index = np.unique(rows, axis=0, return_index=True)
-    values = unique @ _weighted_table(moments.shape[-1])
-    worst = np.unravel_index(np.argmin(values), values.shape)
-    if values[worst] >= -NEGATIVE_TOLERANCE:
-        return None
-    layer = int(np.argwhere(scatters)[index[worst[0]]][1])
-    return layer, float(values[worst]), float(CHECK_ANGLES[worst[1]])
+    return best

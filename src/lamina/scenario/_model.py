@@ -267,17 +267,39 @@ def _mix(scenario: Scenario) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
             ssa = constituent.single_scattering_albedo
             chi = constituent.phase_moments
         extinction += tau
-        scattering += ssa * tau
-        weighted += (ssa * tau)[..., None] * chi
+        scattering_part = ssa * tau
+        scattering += scattering_part
+        _add_weighted_moments(weighted, scattering_part, chi)
     with np.errstate(invalid="ignore", divide="ignore"):
         albedo = np.where(extinction > 0, scattering / extinction, 0.0)
-        moments = np.where(scattering[..., None] > 0, weighted / scattering[..., None], 0.0)
+        # in place: the moments are the largest array of a spectral run
+        moments = np.divide(weighted, scattering[..., None], out=weighted,
+                            where=scattering[..., None] > 0)
+        moments[~(scattering > 0)] = 0.0
     # A layer that scatters nothing still needs chi_0 = 1; its phase function is irrelevant.
     moments[..., 0] = 1.0
     albedo = np.clip(albedo, 0.0, 1.0)  # round-off only: each constituent is within [0, 1]
     if not scenario.spectral:
         return extinction[0], albedo[0], moments[0]
     return extinction, albedo, moments
+
+
+#: Elements of the moments mixed at a time (bounds the temporaries of a long spectrum).
+_MIX_SLAB = 1 << 22
+
+
+def _add_weighted_moments(weighted: np.ndarray, scattering: np.ndarray,
+                          chi: np.ndarray) -> None:
+    """weighted += scattering[..., None] * chi, a slab of wavelengths at a time (in place).
+
+    ``weighted`` is (wavelength, layer, moment), ``scattering`` (wavelength, layer); ``chi``
+    has a wavelength axis when it has three.
+    """
+    step = max(1, _MIX_SLAB // max(1, weighted[0].size))
+    spectral = np.ndim(chi) == 3
+    for start in range(0, weighted.shape[0], step):
+        rows = slice(start, start + step)
+        weighted[rows] += scattering[rows, :, None] * (chi[rows] if spectral else chi)
 
 
 def _read_profile(scenario: Scenario) -> xr.Dataset:
