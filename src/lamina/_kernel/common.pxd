@@ -177,6 +177,23 @@ cdef struct Scratch:
     double *beamdone  # [sun] 1 when bA, bB hold
 
 
+cdef inline void planck_line(double w, double depth, double top, double bottom, double kmin,
+                             double *b0, double *b1) noexcept nogil:
+    """The Planck source B0 + B1 t of a layer, or its mean where the slope is unresolvable.
+
+    The linear part of the particular solution is cancelled through the layer's slowest mode
+    (decay rate ``kmin``), with a round-off error of about eps |B1| / k_min; replacing the
+    source by its mean changes the emission by about (1 - w) |B1| depth^2 / 12. The mean is
+    used where it is the smaller error, (1 - w) depth^2 k_min < 12 eps.
+    """
+    if (1.0 - w) * depth * depth * kmin < 12.0 * 2.220446049250313e-16:
+        b0[0] = 0.5 * (top + bottom)
+        b1[0] = 0.0
+    else:
+        b0[0] = top
+        b1[0] = (bottom - top) / depth
+
+
 cdef inline double dexp(double a, double b, double length) noexcept nogil:
     """(exp(-a L) - exp(-b L)) / (b - a) for a, b >= 0, continuous at a == b (L exp(-a L))."""
     cdef double low = a if a < b else b

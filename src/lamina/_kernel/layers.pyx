@@ -45,6 +45,7 @@ from lamina._kernel._lapack_int cimport lapack_int
 from lamina._kernel.common cimport (
     C_CONSERVATIVE_GAP, C_RESONANCE_GAP, PI, STATUS_DIFFERENCE_CHOLESKY, STATUS_SINGULAR_VALUES,
     STATUS_SUM_CHOLESKY, Column, Grid, Layers, Scratch, Sizes, column_dots, legendre_table,
+    planck_line,
 )
 
 
@@ -268,12 +269,7 @@ cdef void thermal_slope(Layers *ly, Py_ssize_t layer, Py_ssize_t n, double depth
     cdef double kmin = ly.k[layer * n]
     for j in range(1, n):
         kmin = min(kmin, ly.k[layer * n + j])
-    if (1.0 - w) * depth * depth * kmin < 12.0 * 2.220446049250313e-16:
-        ly.b0[layer] = 0.5 * (top + bottom)
-        ly.b1[layer] = 0.0
-    else:
-        ly.b0[layer] = top
-        ly.b1[layer] = (bottom - top) / depth
+    planck_line(w, depth, top, bottom, kmin, &ly.b0[layer], &ly.b1[layer])
 
 
 cdef int homogeneous_solutions(Sizes *sz, Scratch *sc, Layers *ly, Column *cl, Grid *gr,

@@ -69,7 +69,7 @@ from scipy.linalg.cython_blas cimport dgemm, dgemv
 from scipy.linalg.cython_lapack cimport dgeev, dgesv, dgetrf, dgetrs
 
 from lamina._kernel._lapack_int cimport lapack_int
-from lamina._kernel.common cimport C_CONSERVATIVE_GAP, C_RESONANCE_GAP, PI
+from lamina._kernel.common cimport C_CONSERVATIVE_GAP, C_RESONANCE_GAP, PI, planck_line
 from lamina._kernel.vector_common cimport (
     VSTATUS_EIGEN, VSTATUS_EIGENVALUE, VSTATUS_PARTICULAR, VSTATUS_SUM_FACTOR, VectorColumn,
     VectorLayers, VectorScratch, VectorSizes, stokes_sign,
@@ -378,12 +378,7 @@ cdef void thermal_slope(VectorSizes *sz, VectorLayers *ly, Py_ssize_t layer, dou
     cdef double kmin = ly.kr[layer * nn]
     for j in range(1, nn):
         kmin = min(kmin, ly.kr[layer * nn + j])
-    if (1.0 - w) * depth * depth * kmin < 12.0 * 2.220446049250313e-16:
-        ly.b0[layer] = 0.5 * (top + bottom)
-        ly.b1[layer] = 0.0
-    else:
-        ly.b0[layer] = top
-        ly.b1[layer] = (bottom - top) / depth
+    planck_line(w, depth, top, bottom, kmin, &ly.b0[layer], &ly.b1[layer])
 
 
 cdef void vector_beam_geometry(VectorSizes *sz, VectorScratch *sc, VectorLayers *ly,
