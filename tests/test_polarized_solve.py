@@ -332,3 +332,24 @@ def test_a_thick_layer_seen_at_grazing_views_is_finite_and_matches_the_doubling(
     up = out.radiance.sel(level=0, direction="up").values
     scale = np.abs(reference.reflected[..., 0]).max()
     np.testing.assert_allclose(up, reference.reflected[..., :3], rtol=0, atol=1e-9 * scale)
+
+
+def test_limb_polarization_of_the_milne_problem():
+    # Chandrasekhar (1950), Radiative Transfer, section 70 (from memory): light emerging from
+    # a conservative semi-infinite Rayleigh atmosphere fed from great depth (the Milne
+    # problem) is polarized perpendicular to the meridian plane, 11.713 % at the limb. Deep
+    # inside a thick conservative slab the field forgets how it was lit: the diffuse light
+    # that a slab of optical thickness 16 lets through from an isotropic, unpolarized sky
+    # leaves its bottom (over a black ground) with the Milne problem's angular law. The limb
+    # value is the degree of polarization extrapolated linearly to mu = 0 from mu = 1.7e-5
+    # and 1.7e-4.
+    atmosphere = lamina.make_atmosphere([16.0], [1.0], scattering_matrix_moments=rayleigh_matrix())
+    zenith = np.array([89.999, 89.99])
+    out = lamina.solve(atmosphere, streams=16, top_diffuse_radiance=1.0, view_zenith=zenith,
+                       view_azimuth=[0.0], stokes=3)
+    bottom = out.isel(level=-1).sel(direction="down")
+    degree = bottom.degree_of_polarization.values.ravel()
+    mu = np.cos(np.radians(zenith))
+    limb = degree[0] - mu[0] * (degree[1] - degree[0]) / (mu[1] - mu[0])
+    assert abs(limb - 0.11713) < 1e-4
+    assert np.all(bottom.radiance.sel(stokes="Q").values < 0.0)   # perpendicular
